@@ -152,7 +152,8 @@ class SourceInfo:
     Attributes
     ----------
     role : str
-        ``co2``, ``spo2``, ``doses`` or ``events``.
+        ``co2``, ``spo2``, ``doses`` or ``events``; ``session`` for ``session.yaml`` itself
+        (listed first by :func:`sedreport.ingest.load_session`, rows = its lines).
     file : str
         Path relative to the session folder.
     sha256 : str
@@ -175,6 +176,9 @@ class SourceInfo:
         First and last time on the session clock.
     channel : str | None
         Channel label for EDF/WFDB.
+    other_files : tuple of (str, str)
+        Further files of the same source with their SHA-256 (the signal files of a WFDB
+        record; ``file``/``sha256`` are then its header).
     """
 
     role: str
@@ -189,6 +193,7 @@ class SourceInfo:
     sample_rate_hz: float | None = None
     span_s: tuple[float, float] | None = None
     channel: str | None = None
+    other_files: tuple[tuple[str, str], ...] = ()
 
 
 @dataclass(frozen=True)
