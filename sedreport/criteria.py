@@ -1,13 +1,35 @@
-"""Criteria files: every detection threshold with its published source (owned by the episodes work)."""
+"""Criteria files: every detection threshold with its published source.
+
+A criteria file is YAML (format ``sedreport-criteria/1``). Each threshold is an entry
+``{value, unit, source, note}``; the loader checks types, units, ranges and the relations
+between thresholds, rejects unknown keys, and raises :class:`sedreport.errors.CriteriaError`
+naming the file and the key. The detectors read every number from the returned
+:class:`Criteria`; the file's SHA-256 goes into every output.
+"""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import hashlib
+import math
+from dataclasses import dataclass, fields
+from pathlib import Path
+
+import yaml
+
+from sedreport.errors import CriteriaError
+
+CRITERIA_FORMAT = "sedreport-criteria/1"
+#: Folder of the criteria files shipped with the package.
+CRITERIA_DIR = Path(__file__).resolve().parent / "templates" / "criteria"
+DEFAULT_CRITERIA_FILE = CRITERIA_DIR / "default.yaml"
 
 
 @dataclass(frozen=True)
 class Criterion:
-    """One threshold of a criteria file, with where it comes from."""
+    """One threshold of a criteria file, with where it comes from.
+
+    ``value`` is NaN for an optional threshold that the file switches off (``value: null``).
+    """
 
     section: str
     name: str
@@ -18,11 +40,349 @@ class Criterion:
 
 
 @dataclass(frozen=True)
+class _Spec:
+    unit: str
+    low: float
+    high: float
+    optional: bool = False
+
+
+# ----- typed sections (field names are the YAML keys) ------------------------------------------
+@dataclass(frozen=True)
+class ApnoeaCriteria:
+    """No capnographic breath for at least ``min_duration_s``; ``prolonged_s`` is the top tier.
+
+    Breaths whose EtCO2 is at or below ``breath_min_etco2_mmHg`` do not end an apnoea.
+    """
+
+    min_duration_s: float
+    prolonged_s: float
+    breath_min_etco2_mmHg: float
+
+
+@dataclass(frozen=True)
+class HypoventilationCriteria:
+    """Hypercapnic/bradypnoeic and hypopnoeic hypoventilation, sustained.
+
+    ``rise_from_baseline_pct`` is NaN when switched off.
+    """
+
+    etco2_high_mmHg: float
+    rise_from_baseline_mmHg: float
+    rise_from_baseline_pct: float
+    bradypnoea_rr_per_min: float
+    hypopnoea_amplitude_fraction: float
+    min_duration_s: float
+    max_interruption_s: float
+
+
+@dataclass(frozen=True)
+class DesaturationCriteria:
+    """SpO2 below ``spo2_below_pct`` for at least ``min_duration_s``, with the top-tier limits."""
+
+    spo2_below_pct: float
+    min_duration_s: float
+    severe_below_pct: float
+    prolonged_s: float
+
+
+@dataclass(frozen=True)
+class RebreathingCriteria:
+    """Inspired CO2 (FiCO2) above ``fico2_above_mmHg``, sustained."""
+
+    fico2_above_mmHg: float
+    min_duration_s: float
+    max_interruption_s: float
+
+
+@dataclass(frozen=True)
+class ObstructionCriteria:
+    """Waveform shape relative to the patient's own baseline, sustained."""
+
+    slope_ratio: float
+    slope_floor_per_s: float
+    upstroke_ratio: float
+    smoothing_breaths: float
+    min_duration_s: float
+    max_interruption_s: float
+
+
+@dataclass(frozen=True)
+class SignalLossCriteria:
+    """Sample steps that are gaps, and the shortest gap reported as an episode."""
+
+    co2_gap_s: float
+    spo2_gap_s: float
+    min_duration_s: float
+
+
+@dataclass(frozen=True)
+class LinkingCriteria:
+    """Windows for linking doses, interventions and the capnographic lead time."""
+
+    dose_lookback_s: float
+    intervention_after_s: float
+    lead_window_s: float
+
+
+_SECTIONS: dict[str, type] = {
+    "apnoea": ApnoeaCriteria,
+    "hypoventilation": HypoventilationCriteria,
+    "desaturation": DesaturationCriteria,
+    "rebreathing": RebreathingCriteria,
+    "obstruction": ObstructionCriteria,
+    "signal_loss": SignalLossCriteria,
+    "linking": LinkingCriteria,
+}
+
+# Units and plausible ranges; a value outside is an error, not a clamp.
+_SCHEMA: dict[str, dict[str, _Spec]] = {
+    "apnoea": {
+        "min_duration_s": _Spec("s", 5, 120),
+        "prolonged_s": _Spec("s", 10, 600),
+        "breath_min_etco2_mmHg": _Spec("mmHg", 0, 20),
+    },
+    "hypoventilation": {
+        "etco2_high_mmHg": _Spec("mmHg", 30, 100),
+        "rise_from_baseline_mmHg": _Spec("mmHg", 1, 50),
+        "rise_from_baseline_pct": _Spec("%", 1, 100, optional=True),
+        "bradypnoea_rr_per_min": _Spec("1/min", 2, 20),
+        "hypopnoea_amplitude_fraction": _Spec("fraction", 0.05, 0.95),
+        "min_duration_s": _Spec("s", 0, 900),
+        "max_interruption_s": _Spec("s", 0, 120),
+    },
+    "desaturation": {
+        "spo2_below_pct": _Spec("%", 70, 99),
+        "min_duration_s": _Spec("s", 0, 600),
+        "severe_below_pct": _Spec("%", 50, 95),
+        "prolonged_s": _Spec("s", 1, 900),
+    },
+    "rebreathing": {
+        "fico2_above_mmHg": _Spec("mmHg", 0.5, 30),
+        "min_duration_s": _Spec("s", 0, 900),
+        "max_interruption_s": _Spec("s", 0, 120),
+    },
+    "obstruction": {
+        "slope_ratio": _Spec("ratio", 1.1, 50),
+        "slope_floor_per_s": _Spec("1/s", 0, 1),
+        "upstroke_ratio": _Spec("ratio", 1.1, 50),
+        "smoothing_breaths": _Spec("breaths", 1, 15),
+        "min_duration_s": _Spec("s", 0, 900),
+        "max_interruption_s": _Spec("s", 0, 120),
+    },
+    "signal_loss": {
+        "co2_gap_s": _Spec("s", 0.05, 10),
+        "spo2_gap_s": _Spec("s", 1, 120),
+        "min_duration_s": _Spec("s", 0.05, 900),
+    },
+    "linking": {
+        "dose_lookback_s": _Spec("s", 0, 7200),
+        "intervention_after_s": _Spec("s", 0, 1800),
+        "lead_window_s": _Spec("s", 0, 1800),
+    },
+}
+
+# (smaller key, larger key, what the relation means)
+_RELATIONS: tuple[tuple[str, str, str], ...] = (
+    ("apnoea.min_duration_s", "apnoea.prolonged_s", "the minor apnoea must be shorter"),
+    ("desaturation.severe_below_pct", "desaturation.spo2_below_pct", "the severe level is lower"),
+    ("desaturation.min_duration_s", "desaturation.prolonged_s", "the minor tier must be shorter"),
+    ("signal_loss.co2_gap_s", "signal_loss.min_duration_s", "a reported loss is at least a gap"),
+)
+_TOP_KEYS = {"format", "name", "description", *_SECTIONS}
+_ENTRY_KEYS = {"value", "unit", "source", "note"}
+
+
+@dataclass(frozen=True)
 class Criteria:
-    """A loaded, checked criteria file (implementation pending in the episodes issue)."""
+    """A loaded, checked criteria file.
+
+    Attributes
+    ----------
+    name, path, sha256, description : str
+        Identity of the file (``sha256`` of its bytes).
+    items : tuple of Criterion
+        Every threshold with unit, source and note, in file order.
+    apnoea, hypoventilation, desaturation, rebreathing, obstruction, signal_loss, linking
+        Typed sections: ``criteria.apnoea.min_duration_s`` and so on.
+    """
 
     name: str
     path: str
     sha256: str
     description: str
     items: tuple[Criterion, ...]
+    apnoea: ApnoeaCriteria
+    hypoventilation: HypoventilationCriteria
+    desaturation: DesaturationCriteria
+    rebreathing: RebreathingCriteria
+    obstruction: ObstructionCriteria
+    signal_loss: SignalLossCriteria
+    linking: LinkingCriteria
+
+    def item(self, key: str) -> Criterion:
+        """The :class:`Criterion` of a dotted key such as ``"apnoea.min_duration_s"``."""
+        for c in self.items:
+            if f"{c.section}.{c.name}" == key:
+                return c
+        raise KeyError(key)
+
+    def to_dict(self) -> dict:
+        """JSON-ready description: identity plus every threshold with its source.
+
+        Switched-off optional thresholds appear with ``"value": None``.
+        """
+        sections: dict[str, dict] = {}
+        for c in self.items:
+            value = None if math.isnan(c.value) else c.value
+            sections.setdefault(c.section, {})[c.name] = {
+                "value": value,
+                "unit": c.unit,
+                "source": c.source,
+                "note": c.note,
+            }
+        return {
+            "name": self.name,
+            "path": self.path,
+            "sha256": self.sha256,
+            "description": self.description,
+            "thresholds": sections,
+        }
+
+
+def load_criteria(path: str | Path | None = None) -> Criteria:
+    """Load and check a criteria file.
+
+    Parameters
+    ----------
+    path : str or Path, optional
+        The YAML file; None loads the shipped ``default.yaml``.
+
+    Raises
+    ------
+    CriteriaError
+        When the file is missing, not YAML, or has a wrong, unknown or inconsistent key.
+    """
+    file = DEFAULT_CRITERIA_FILE if path is None else Path(path)
+    where = str(file)
+    try:
+        raw = file.read_bytes()
+    except OSError as exc:
+        raise CriteriaError(where, f"cannot read criteria file ({exc.strerror})") from None
+    try:
+        doc = yaml.safe_load(raw.decode("utf-8"))
+    except (yaml.YAMLError, UnicodeDecodeError) as exc:
+        line = getattr(getattr(exc, "problem_mark", None), "line", None)
+        at = f":{line + 1}" if line is not None else ""
+        raise CriteriaError(f"{where}{at}", "not a valid YAML file") from None
+    if not isinstance(doc, dict):
+        raise CriteriaError(where, "top level must be a mapping of sections")
+    _check_top(where, doc)
+    items: list[Criterion] = []
+    sections = {}
+    for section, cls in _SECTIONS.items():
+        got = _read_section(where, section, doc.get(section))
+        items.extend(got)
+        sections[section] = cls(**{c.name: c.value for c in got})
+    values = {f"{c.section}.{c.name}": c.value for c in items}
+    for small, large, why in _RELATIONS:
+        if not values[small] < values[large]:
+            raise CriteriaError(
+                f"{where}: {small}",
+                f"must be less than {large} ({values[small]:g} >= {values[large]:g}; {why})",
+            )
+    return Criteria(
+        name=str(doc["name"]),
+        path=where,
+        sha256=hashlib.sha256(raw).hexdigest(),
+        description=str(doc.get("description", "")).strip(),
+        items=tuple(items),
+        **sections,
+    )
+
+
+def _check_top(where: str, doc: dict) -> None:
+    unknown = sorted(str(k) for k in doc if k not in _TOP_KEYS)
+    if unknown:
+        raise CriteriaError(f"{where}: {unknown[0]}", "unknown top-level key")
+    if doc.get("format") != CRITERIA_FORMAT:
+        raise CriteriaError(
+            f"{where}: format", f"must be {CRITERIA_FORMAT!r}, got {doc.get('format')!r}"
+        )
+    if not isinstance(doc.get("name"), str) or not doc["name"].strip():
+        raise CriteriaError(f"{where}: name", "must be a non-empty string")
+
+
+def _read_section(where: str, section: str, body: object) -> list[Criterion]:
+    if not isinstance(body, dict):
+        raise CriteriaError(f"{where}: {section}", "missing section or not a mapping")
+    schema = _SCHEMA[section]
+    for key in body:
+        if key not in schema:
+            raise CriteriaError(f"{where}: {section}.{key}", "unknown key")
+    names = [f.name for f in fields(_SECTIONS[section])]
+    return [_read_entry(where, section, name, body.get(name), schema[name]) for name in names]
+
+
+def _read_entry(where: str, section: str, name: str, entry: object, spec: _Spec) -> Criterion:
+    key = f"{where}: {section}.{name}"
+    if entry is None:
+        raise CriteriaError(key, "missing threshold")
+    if not isinstance(entry, dict):
+        raise CriteriaError(key, "must be a mapping with value, unit, source[, note]")
+    extra = sorted(str(k) for k in entry if k not in _ENTRY_KEYS)
+    if extra:
+        raise CriteriaError(key, f"unknown field {extra[0]!r}")
+    for needed in ("value", "unit", "source"):
+        if needed not in entry:
+            raise CriteriaError(key, f"missing field {needed!r}")
+    value = entry["value"]
+    if value is None and spec.optional:
+        number = math.nan
+    elif isinstance(value, bool) or not isinstance(value, int | float):
+        raise CriteriaError(key, f"value must be a number, got {value!r}")
+    else:
+        number = float(value)
+        if not (spec.low <= number <= spec.high):
+            raise CriteriaError(
+                key, f"value {number:g} outside the plausible range {spec.low:g}-{spec.high:g}"
+            )
+    if entry["unit"] != spec.unit:
+        raise CriteriaError(key, f"unit must be {spec.unit!r}, got {entry['unit']!r}")
+    source = entry["source"]
+    if not isinstance(source, str) or not source.strip():
+        raise CriteriaError(key, "source must be a non-empty string")
+    note = entry.get("note", "") or ""
+    if not isinstance(note, str):
+        raise CriteriaError(key, "note must be a string")
+    return Criterion(section, name, number, spec.unit, source.strip(), note.strip())
+
+
+def list_criteria_files() -> tuple[Path, ...]:
+    """The criteria files shipped with the package, sorted by name."""
+    return tuple(sorted(CRITERIA_DIR.glob("*.yaml")))
+
+
+def format_criteria(criteria: Criteria) -> str:
+    """Plain-text listing of a criteria file: every threshold with unit, source and note."""
+    lines = [
+        f"criteria {criteria.name}: {criteria.path}",
+        f"sha256 {criteria.sha256}",
+    ]
+    if criteria.description:
+        lines.append(criteria.description)
+    section = None
+    for c in criteria.items:
+        if c.section != section:
+            section = c.section
+            lines.append(f"\n[{section}]")
+        value = "off" if math.isnan(c.value) else f"{c.value:g} {c.unit}"
+        lines.append(f"  {c.name} = {value}")
+        lines.append(f"      source: {c.source}")
+        if c.note:
+            lines.append(f"      note: {c.note}")
+    lines.append(
+        "\nThese criteria document and review recorded data; they are not alarm settings. "
+        "Local sedation policy and licensed practice decide which criteria apply."
+    )
+    return "\n".join(lines) + "\n"

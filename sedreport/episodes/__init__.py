@@ -1,0 +1,45 @@
+"""Respiratory episodes by published criteria, linked to doses, interventions and severity.
+
+Public API: :func:`detect_episodes` (all kinds, linked, numbered), the single detectors
+(:func:`detect_apnoea`, :func:`detect_hypoventilation`, :func:`detect_desaturation`,
+:func:`detect_rebreathing`, :func:`detect_obstruction`, :func:`detect_signal_loss`), and the
+linking pieces (:func:`link_doses`, :func:`link_interventions`, :func:`lean_body_weight_kg`,
+:func:`grade_episode`). The data model is in :mod:`sedreport.episodes.model`.
+"""
+
+from sedreport.episodes.apnoea import detect_apnoea
+from sedreport.episodes.desaturation import detect_desaturation
+from sedreport.episodes.detect import detect_episodes, find_findings
+from sedreport.episodes.drugs import lean_body_weight_kg, link_doses
+from sedreport.episodes.hypoventilation import detect_hypoventilation
+from sedreport.episodes.linking import link_interventions
+from sedreport.episodes.model import (
+    EPISODE_KINDS,
+    SEVERITY_TIERS,
+    Episode,
+    LinkedDose,
+    LinkedIntervention,
+)
+from sedreport.episodes.severity import grade_episode
+from sedreport.episodes.signal_loss import detect_signal_loss
+from sedreport.episodes.waveform import detect_obstruction, detect_rebreathing
+
+__all__ = [
+    "EPISODE_KINDS",
+    "SEVERITY_TIERS",
+    "Episode",
+    "LinkedDose",
+    "LinkedIntervention",
+    "detect_apnoea",
+    "detect_desaturation",
+    "detect_episodes",
+    "detect_hypoventilation",
+    "detect_obstruction",
+    "detect_rebreathing",
+    "detect_signal_loss",
+    "find_findings",
+    "grade_episode",
+    "lean_body_weight_kg",
+    "link_doses",
+    "link_interventions",
+]

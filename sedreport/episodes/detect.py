@@ -1,0 +1,71 @@
+"""All detectors in one pass: findings of every kind, linked, sorted and numbered."""
+
+from __future__ import annotations
+
+from sedreport.capnography.model import Baseline, BreathTable, Trends
+from sedreport.criteria import Criteria
+from sedreport.episodes._intervals import Finding
+from sedreport.episodes.apnoea import detect_apnoea
+from sedreport.episodes.desaturation import detect_desaturation
+from sedreport.episodes.hypoventilation import detect_hypoventilation
+from sedreport.episodes.linking import link_episode
+from sedreport.episodes.model import EPISODE_KINDS, Episode
+from sedreport.episodes.signal_loss import detect_signal_loss, stream_gaps
+from sedreport.episodes.waveform import detect_obstruction, detect_rebreathing
+from sedreport.session import Session
+
+
+def find_findings(
+    session: Session,
+    breaths: BreathTable,
+    trends: Trends,
+    baseline: Baseline,
+    criteria: Criteria,
+) -> list[Finding]:
+    """Run every detector; overlapping findings of different kinds stay separate.
+
+    Returns
+    -------
+    list of Finding
+        Sorted by onset, then by the kind order of :data:`EPISODE_KINDS`.
+    """
+    gs, ge = stream_gaps(session, "co2", criteria)
+    co2_end = (
+        float(session.co2.time_s[-1])
+        if session.co2 is not None and session.co2.time_s.size
+        else None
+    )
+    found = [
+        *detect_apnoea(breaths, gs, ge, criteria, co2_end_s=co2_end),
+        *detect_hypoventilation(breaths, baseline, gs, ge, criteria),
+        *detect_desaturation(trends, criteria),
+        *detect_rebreathing(breaths, gs, ge, criteria),
+        *detect_obstruction(breaths, baseline, gs, ge, criteria),
+        *detect_signal_loss(session, criteria),
+    ]
+    return sorted(found, key=lambda f: (f.start_s, EPISODE_KINDS.index(f.kind), f.end_s))
+
+
+def detect_episodes(
+    session: Session,
+    breaths: BreathTable,
+    trends: Trends,
+    baseline: Baseline,
+    criteria: Criteria,
+) -> tuple[Episode, ...]:
+    """Every episode of a session, linked to doses and interventions, ids ``E1``... by onset.
+
+    Parameters
+    ----------
+    session : Session
+    breaths : BreathTable
+    trends : Trends
+    baseline : Baseline
+    criteria : Criteria
+        Every threshold used comes from here.
+    """
+    findings = find_findings(session, breaths, trends, baseline, criteria)
+    return tuple(
+        link_episode(f, f"E{i}", session, breaths, trends, criteria)
+        for i, f in enumerate(findings, start=1)
+    )
