@@ -382,8 +382,8 @@ def test_obstruction_onset_dated_by_the_breaths_own_values():
 
 
 def test_low_etco2_deflections_do_not_end_an_apnoea():
-    """Deflections at or below 10 mmHg are not breaths (Krauss et al., Ann Emerg Med 2016, as
-    cited in the project brief); with the threshold at 0 they split the pause."""
+    """Deflections at or below 10 mmHg are not breaths (Krauss et al., Ann Emerg Med 2016,
+    from memory); with the threshold at 0 they split the pause."""
     import dataclasses
 
     starts = np.r_[regular(0, 101, 4.0), [112.0, 126.0], regular(140.0, 200, 4.0)]

@@ -1,0 +1,141 @@
+"""The record's header (who, what, where) and summary (key figures and attention sentences)."""
+
+from __future__ import annotations
+
+from reportlab.platypus import Paragraph, Table, TableStyle
+
+from sedreport.analysis import Analysis
+from sedreport.render import styles
+from sedreport.render.fmt import DASH, clock_text, duration_text, number_text, words
+from sedreport.render.styles import para_text
+
+
+def _cell(text: object, style=styles.CELL) -> Paragraph:
+    return Paragraph(para_text(text), style)
+
+
+def _grid(pairs: list[tuple[str, str]], width_pt: float, columns: int = 3) -> Table:
+    """Label/value pairs laid out in ``columns`` column pairs."""
+    rows = []
+    for i in range(0, len(pairs), columns):
+        row = []
+        for label, value in pairs[i : i + columns]:
+            row += [_cell(label, styles.CELL_BOLD), _cell(value)]
+        row += [""] * (2 * columns - len(row))
+        rows.append(row)
+    label_w = 0.135 * width_pt
+    value_w = width_pt / columns - label_w
+    table = Table(rows, colWidths=[label_w, value_w] * columns, hAlign="LEFT")
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("LINEBELOW", (0, 0), (-1, -1), 0.3, styles.GRID),
+                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+                ("LEFTPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
+    return table
+
+
+def header_pairs(analysis: Analysis) -> list[tuple[str, str]]:
+    """Header fields as (label, value) text, ``-`` where the session does not say."""
+    s = analysis.session
+    p, team, o2 = s.patient, s.team, s.oxygen
+    oxygen = DASH
+    if o2.device or o2.flow_l_min is not None:
+        flow = f", {o2.flow_l_min:g} L/min" if o2.flow_l_min is not None else ""
+        oxygen = f"{words(o2.device or 'device not stated')}{flow}"
+    return [
+        ("Session", s.session_id),
+        ("Date", s.started.strftime("%Y-%m-%d")),
+        ("Start", s.started.strftime("%H:%M:%S (UTC%z)").replace("(UTC+0000)", "(UTC)")),
+        ("Area", s.area or DASH),
+        ("Procedure", s.procedure or DASH),
+        ("Target depth", s.target_depth or DASH),
+        ("Patient ref", p.ref or DASH),
+        ("Age", number_text(p.age_years, 0, "years")),
+        ("Sex", p.sex or DASH),
+        ("Weight", number_text(p.weight_kg, 1, "kg")),
+        ("Height", number_text(p.height_cm, 0, "cm")),
+        ("ASA class", f"ASA {p.asa_class}" if p.asa_class is not None else DASH),
+        ("Conditions", ", ".join(words(c) for c in p.conditions) or "none recorded"),
+        ("Sedation by", team.sedation_provider or DASH),
+        ("Proceduralist", team.proceduralist or DASH),
+        ("Oxygen", oxygen),
+    ]
+
+
+def header_flowables(analysis: Analysis, width_pt: float) -> list:
+    """Title block and header grid."""
+    s = analysis.session
+    title = Paragraph(para_text(f"Sedation record - {s.session_id}"), styles.TITLE)
+    sub = Paragraph(
+        para_text(
+            f"{s.started.strftime('%Y-%m-%d %H:%M')} \u00b7 {s.area or 'area not stated'} \u00b7 "
+            f"{s.procedure or 'procedure not stated'} \u00b7 documents and reviews recorded "
+            "monitoring data; not an alarm, not a diagnosis"
+        ),
+        styles.SUBTITLE,
+    )
+    return [title, sub, _grid(header_pairs(analysis), width_pt)]
+
+
+def _counts_text(counts: dict | None) -> str:
+    if not counts:
+        return "none"
+    return ", ".join(f"{words(str(k))} {v}" for k, v in counts.items() if v) or "none"
+
+
+def summary_pairs(analysis: Analysis) -> list[tuple[str, str]]:
+    """Key figures of the summary as (label, value) text."""
+    sm, s = analysis.summary, analysis.session
+    start, end = sm.get("sedation_start_s"), sm.get("sedation_end_s")
+    span = f"{clock_text(s, start, False)} to {clock_text(s, end, False)}"
+    b = analysis.baseline
+    return [
+        ("Sedation", f"{duration_text(sm.get('sedation_duration_s'))} ({span})"),
+        ("CO2 coverage", number_text(sm.get("co2_coverage_pct"), 0, "% of sedation time")),
+        ("SpO2 coverage", number_text(sm.get("spo2_coverage_pct"), 0, "% of sedation time")),
+        ("Episodes", f"{len(analysis.episodes)}: {_counts_text(sm.get('episodes_by_kind'))}"),
+        ("By severity", _counts_text(sm.get("episodes_by_severity"))),
+        ("Longest apnoea", duration_text(sm.get("longest_apnoea_s"))),
+        ("Lowest SpO2", number_text(sm.get("min_spo2_pct"), 0, "%")),
+        ("SpO2 < 90 %", duration_text(sm.get("time_below_90_s"))),
+        ("Highest EtCO2", number_text(sm.get("max_etco2_mmHg"), 0, "mmHg")),
+        ("Median RR", number_text(sm.get("median_rr_per_min"), 1, "/min")),
+        ("Breaths", f"{sm.get('n_breaths', DASH)} ({sm.get('n_valid_breaths', DASH)} valid)"),
+        (
+            "Baseline",
+            f"EtCO2 {number_text(b.etco2_mmHg, 0, 'mmHg')}, RR {number_text(b.rr_per_min, 1, '/min')}"
+            f" ({b.n_breaths} breaths)",
+        ),
+    ]
+
+
+def summary_flowables(analysis: Analysis, width_pt: float) -> list:
+    """Summary heading, key-figure grid and one sentence per finding needing attention."""
+    out: list = [Paragraph("Summary", styles.H1), _grid(summary_pairs(analysis), width_pt)]
+    attention = list(analysis.summary.get("attention") or [])
+    out.append(Paragraph("Needs the reader's attention", styles.H2))
+    if not attention:
+        out.append(Paragraph("No finding was flagged for attention.", styles.BODY))
+    rows = [[Paragraph(para_text(f"\u2022 {sentence}"), styles.BODY)] for sentence in attention]
+    if rows:
+        box = Table(rows, colWidths=[width_pt], hAlign="LEFT")
+        box.setStyle(
+            TableStyle(
+                [
+                    ("BACKGROUND", (0, 0), (-1, -1), styles.ATTENTION_FILL),
+                    ("BOX", (0, 0), (-1, -1), 0.8, styles.INK),
+                    ("LEFTPADDING", (0, 0), (-1, -1), 6),
+                    ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                    ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+                ]
+            )
+        )
+        out.append(box)
+    out.append(Paragraph(para_text(f"Baseline: {analysis.baseline.method}"), styles.SMALL))
+    return out

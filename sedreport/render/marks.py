@@ -1,0 +1,166 @@
+"""Dose and intervention marks of the trend strips, in two lanes above the strips.
+
+Boluses are filled triangles, infusion rate lines open triangles with a bar while the infusion
+runs, interventions open diamonds with a short code; a faint vertical line carries each mark
+down through the strips. Crowded labels are joined rather than overprinted.
+"""
+
+from __future__ import annotations
+
+from reportlab.graphics.shapes import Group, Line, Polygon
+
+from sedreport.analysis import Analysis
+from sedreport.render import styles
+from sedreport.render.plot import Panel, label
+
+#: Lane height in points (one lane for doses, one for interventions).
+LANE_PT = 10.0
+
+
+def lane_marks(
+    analysis: Analysis,
+    p: Panel,
+    top: float,
+    bottom: float,
+    right_pt: float = 26.0,
+    names: bool = True,
+) -> Group:
+    """Dose lane (triangles, infusion bars) and intervention lane (diamonds) above a panel.
+
+    The lanes start one :data:`LANE_PT` above ``top`` (the lane just above ``top`` holds the
+    episode labels); vertical hairlines run from ``bottom`` to ``top``.
+    """
+    g = Group()
+    dose_y = top + LANE_PT + 2
+    int_y = top + 2 * LANE_PT + 2
+    if names:
+        g.add(label(4, dose_y + 1, "doses", 5.5))
+        g.add(label(4, int_y + 1, "actions", 5.5))
+    right_edge = p.x + p.width + right_pt
+    _dose_marks(analysis, p, g, dose_y, bottom, top, right_edge)
+    _intervention_marks(analysis, p, g, int_y, bottom, top, right_edge)
+    return g
+
+
+def _dose_marks(
+    analysis, p: Panel, g: Group, lane_y: float, bottom: float, top: float, right_edge: float
+) -> None:
+    marks = []
+    for d in analysis.session.doses:
+        if not (p.t0_s <= d.time_s <= p.t1_s):
+            continue
+        x = float(p.tx(d.time_s))
+        g.add(Line(x, bottom, x, top, strokeColor=styles.GRID, strokeWidth=0.5))
+        if d.kind == "bolus":
+            g.add(
+                Polygon(
+                    [x - 2.4, lane_y, x + 2.4, lane_y, x, lane_y + 4.2],
+                    fillColor=styles.DOSE_MARK,
+                    strokeColor=styles.DOSE_MARK,
+                    strokeWidth=0.3,
+                )
+            )
+        else:
+            g.add(
+                Polygon(
+                    [x, lane_y, x + 3.5, lane_y + 2.1, x, lane_y + 4.2],
+                    fillColor=None,
+                    strokeColor=styles.DOSE_MARK,
+                    strokeWidth=0.6,
+                )
+            )
+        unit = "" if d.kind == "bolus" else " " + d.unit
+        marks.append((x, f"{d.drug[:4].capitalize()} {d.dose:g}{unit}"))
+    for x, text in cluster_labels(marks, 3.0, right_edge):
+        g.add(label(x, lane_y + 0.3, text, 5.4))
+    _infusion_bars(analysis, p, g, lane_y - 1.6)
+
+
+def cluster_labels(
+    marks: list[tuple[float, str]], offset_pt: float, right_pt: float, char_pt: float = 2.9
+) -> list[tuple[float, str]]:
+    """Labels of marks; marks that would crowd share one label placed after the last of them.
+
+    Parameters
+    ----------
+    marks : list of (x, text)
+        Mark positions in points, in time order, and their labels.
+    offset_pt : float
+        Gap between a mark and its label.
+    right_pt : float
+        Right edge available; a label that would run past it moves left.
+    char_pt : float
+        Approximate width of one label character in points.
+    """
+    clusters: list[list[tuple[float, str]]] = []
+    for x, text in marks:
+        if clusters:
+            last = clusters[-1]
+            joined = ", ".join(t for _, t in last)
+            label_end = last[-1][0] + offset_pt + len(joined) * char_pt
+            if x - last[-1][0] < 3 * offset_pt or x <= label_end:
+                last.append((x, text))
+                continue
+        clusters.append([(x, text)])
+    placed = []
+    for cl in clusters:
+        text = ", ".join(t for _, t in cl)
+        x = cl[-1][0] + offset_pt
+        placed.append((min(x, right_pt - len(text) * char_pt), text))
+    return placed
+
+
+def _infusion_bars(analysis, p: Panel, g: Group, y: float) -> None:
+    """A thin bar while an infusion runs (from its rate line until the next line or the end)."""
+    s = analysis.session
+    for drug in s.drugs:
+        lines = [d for d in s.doses if d.drug == drug and d.kind == "infusion"]
+        for i, d in enumerate(lines):
+            stop = lines[i + 1].time_s if i + 1 < len(lines) else p.t1_s
+            if d.rate_mg_per_h <= 0:
+                continue
+            a, b = max(d.time_s, p.t0_s), min(stop, p.t1_s)
+            if b > a:
+                g.add(
+                    Line(
+                        float(p.tx(a)),
+                        y,
+                        float(p.tx(b)),
+                        y,
+                        strokeColor=styles.DOSE_MARK,
+                        strokeWidth=1.4,
+                    )
+                )
+
+
+def _intervention_marks(
+    analysis, p: Panel, g: Group, lane_y: float, bottom: float, top: float, right_edge: float
+) -> None:
+    marks = []
+    for e in analysis.session.interventions:
+        if not (p.t0_s <= e.time_s <= p.t1_s):
+            continue
+        x = float(p.tx(e.time_s))
+        g.add(
+            Line(
+                x,
+                bottom,
+                x,
+                top,
+                strokeColor=styles.INTERVENTION_MARK,
+                strokeWidth=0.4,
+                strokeDashArray=[0.8, 1.6],
+            )
+        )
+        c = lane_y + 2.2
+        g.add(
+            Polygon(
+                [x, c - 2.6, x + 2.6, c, x, c + 2.6, x - 2.6, c],
+                fillColor=None,
+                strokeColor=styles.INTERVENTION_MARK,
+                strokeWidth=0.7,
+            )
+        )
+        marks.append((x, styles.INTERVENTION_CODES.get(e.event, e.event[:3].upper())))
+    for x, text in cluster_labels(marks, 3.5, right_edge, char_pt=3.4):
+        g.add(label(x, lane_y + 0.3, text, 5.4))

@@ -1,0 +1,140 @@
+"""Caution notes, the sign-off block and the provenance list (SHA-256 of every input)."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime
+from pathlib import Path
+
+import yaml
+from reportlab.platypus import Paragraph, Spacer, Table, TableStyle
+
+from sedreport import __version__
+from sedreport.analysis import Analysis
+from sedreport.errors import SedreportError
+from sedreport.render import styles
+from sedreport.render.fmt import number_text
+from sedreport.render.quality import missing_streams
+from sedreport.render.styles import para_text
+from sedreport.render.tables import cell, grid_table, scaled
+
+CAUTIONS_FILE = Path(__file__).resolve().parent.parent / "templates" / "cautions.yaml"
+
+
+def load_cautions(path: Path = CAUTIONS_FILE) -> list[tuple[str, str]]:
+    """(title, text) pairs of the caution file.
+
+    Raises
+    ------
+    SedreportError
+        When the file is missing or not of the form ``cautions: [{title, text}, ...]``.
+    """
+    try:
+        data = yaml.safe_load(path.read_text(encoding="utf-8"))
+    except (OSError, yaml.YAMLError) as exc:
+        raise SedreportError(f"{path}: cannot read the caution texts ({exc})") from exc
+    entries = data.get("cautions") if isinstance(data, dict) else None
+    if not isinstance(entries, list) or not entries:
+        raise SedreportError(f"{path}:cautions: expected a non-empty list of title/text")
+    out = []
+    for i, e in enumerate(entries):
+        if not isinstance(e, dict) or not e.get("title") or not e.get("text"):
+            raise SedreportError(f"{path}:cautions[{i}]: needs a title and a text")
+        out.append((str(e["title"]), " ".join(str(e["text"]).split())))
+    return out
+
+
+def limits_sentence(analysis: Analysis) -> str:
+    """The data-quality limits of this particular record, in one paragraph."""
+    sm = analysis.summary
+    parts = [
+        f"CO2 was usable for {number_text(sm.get('co2_coverage_pct'), 0, '%')} and SpO2 for "
+        f"{number_text(sm.get('spo2_coverage_pct'), 0, '%')} of the sedation time."
+    ]
+    gaps = [f for f in analysis.session.findings if f.kind == "gap"]
+    if gaps:
+        parts.append(
+            f"{len(gaps)} gap(s) in the recorded streams are listed under data quality;"
+            " nothing is known about the patient's breathing or saturation in them."
+        )
+    missing = missing_streams(analysis)
+    if missing:
+        parts.append("Missing from this session - " + "; ".join(missing) + ".")
+    return " ".join(parts)
+
+
+def caution_flowables(analysis: Analysis) -> list:
+    """Caution heading, the caution file's notes and this record's own limits."""
+    out: list = [Paragraph("Caution notes", styles.H1)]
+    for title, text in load_cautions():
+        out.append(Paragraph(f"<b>{para_text(title)}.</b> {para_text(text)}", styles.BODY))
+    out.append(
+        Paragraph(
+            f"<b>Limits of this record.</b> {para_text(limits_sentence(analysis))}", styles.BODY
+        )
+    )
+    return out
+
+
+def signoff_flowables(width_pt: float) -> list:
+    """Empty lines for the reviewing clinician; nothing is pre-filled."""
+    labels = ("Reviewing clinician (name)", "Role", "Signature", "Date and time", "Comments")
+    rows = [[cell(lab, styles.CELL_BOLD), ""] for lab in labels]
+    table = Table(
+        rows,
+        colWidths=[0.28 * width_pt, 0.72 * width_pt],
+        rowHeights=[20, 20, 26, 20, 40],
+        hAlign="LEFT",
+    )
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "BOTTOM"),
+                ("LINEBELOW", (1, 0), (1, -1), 0.6, styles.INK),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
+    return [
+        Paragraph("Review and sign-off", styles.H1),
+        Paragraph("I have reviewed this record against the clinical notes.", styles.BODY),
+        table,
+    ]
+
+
+def generated_at(source_date_epoch: str | None) -> str:
+    """Generation time, UTC: ``SOURCE_DATE_EPOCH`` when set (reproducible), else now."""
+    if source_date_epoch:
+        try:
+            when = datetime.fromtimestamp(int(source_date_epoch), tz=UTC)
+        except (ValueError, OverflowError, OSError) as exc:
+            raise SedreportError(
+                f"SOURCE_DATE_EPOCH: expected whole seconds since 1970, got {source_date_epoch!r}"
+            ) from exc
+    else:
+        when = datetime.now(tz=UTC).replace(microsecond=0)
+    return when.strftime("%Y-%m-%d %H:%M:%S UTC")
+
+
+def provenance_flowables(
+    analysis: Analysis, width_pt: float, source_date_epoch: str | None
+) -> list:
+    """SHA-256 of every input file and of the criteria file, version and generation time."""
+    s, c = analysis.session, analysis.criteria
+    head = [cell(h, styles.CELL_BOLD) for h in ("Input", "File", "SHA-256")]
+    rows = [head] + [
+        [cell(src.role), cell(src.file), cell(src.sha256, styles.MONO)] for src in s.sources
+    ]
+    rows.append([cell("criteria"), cell(c.path or c.name), cell(c.sha256, styles.MONO)])
+    return [
+        Paragraph("Provenance", styles.H1),
+        Paragraph(
+            para_text(
+                f"Session {s.session_id}, folder {s.folder.name}. Produced by sedreport {__version__}"
+                f" on {generated_at(source_date_epoch)}. With SOURCE_DATE_EPOCH set, the same "
+                "files and version give a byte-identical record."
+            ),
+            styles.BODY,
+        ),
+        Spacer(1, 3),
+        grid_table(rows, scaled([0.7, 1.6, 3.6], width_pt)),
+    ]

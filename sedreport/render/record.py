@@ -1,0 +1,202 @@
+"""The PDF sedation record: :func:`render_record` assembles every section and writes it.
+
+Sections in order: header, summary with attention sentences, doses, trend strips, episode
+table, episode close-ups, data quality, caution notes, then sign-off and provenance on the last
+page. Every page carries "session id · page x of y · sedreport version".
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from contextlib import ExitStack
+from functools import partial
+from pathlib import Path
+
+from reportlab.platypus import KeepTogether, PageBreak, Paragraph, Spacer
+
+from sedreport import __version__
+from sedreport.analysis import Analysis
+from sedreport.render import closeups, strips, styles
+from sedreport.render.atomic import atomic_output
+from sedreport.render.fmt import clock_text, duration_text, words
+from sedreport.render.header import header_flowables, summary_flowables
+from sedreport.render.legend import codes_text, legend
+from sedreport.render.pages import numbered_canvas, record_document
+from sedreport.render.provenance import (
+    caution_flowables,
+    provenance_flowables,
+    signoff_flowables,
+)
+from sedreport.render.quality import quality_flowables
+from sedreport.render.styles import para_text
+from sedreport.render.tables import dose_flowables, episode_flowables
+
+#: SpO2 reference line when the criteria file names no desaturation threshold in % (the
+#: 90 % line is common practice).
+DEFAULT_SPO2_LINE_PCT: float = 90.0
+
+
+def spo2_line_pct(analysis: Analysis) -> float:
+    """The criteria's desaturation threshold (``desaturation.spo2_below_pct``), else 90 %."""
+    section = getattr(analysis.criteria, "desaturation", None)
+    value = getattr(section, "spo2_below_pct", None)
+    if isinstance(value, int | float) and 50 <= value <= 100:
+        return float(value)
+    return DEFAULT_SPO2_LINE_PCT
+
+
+def trend_flowables(analysis: Analysis, width_pt: float) -> list:
+    """Trend heading, legend and one row per fixed span of minutes."""
+    plan = strips.plan_rows(analysis)
+    line = spo2_line_pct(analysis)
+    s = analysis.session
+    out: list = [
+        PageBreak(),
+        Paragraph("Trends", styles.H1),
+        Paragraph(
+            para_text(
+                f"{plan.minutes_per_row} min per row, {plan.n_rows} row(s), clock time of the "
+                f"session ({s.started.strftime('UTC%z')}). Scales are the same in every row."
+            ),
+            styles.BODY,
+        ),
+        legend(width_pt, line),
+        Paragraph(para_text(codes_text()), styles.SMALL),
+        Spacer(1, 4),
+    ]
+    for i in range(plan.n_rows):
+        t0, t1 = plan.row_span(i)
+        caption = Paragraph(
+            para_text(f"Row {i + 1} of {plan.n_rows}: {clock_text(s, t0)} to {clock_text(s, t1)}"),
+            styles.SMALL_BOLD,
+        )
+        drawing, unlabelled = strips.trend_row(analysis, t0, t1, width_pt, line)
+        parts = [caption, drawing]
+        if unlabelled:
+            note = "Bands too crowded to label here: " + ", ".join(unlabelled) + "."
+            parts.append(Paragraph(para_text(note), styles.SMALL))
+        out.append(KeepTogether([*parts, Spacer(1, 6)]))
+    return out
+
+
+def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
+    """One close-up per episode (the most severe and longest when there are too many)."""
+    if not analysis.episodes:
+        return []
+    shown, left = closeups.choose_closeups(analysis.episodes)
+    s = analysis.session
+    line = spo2_line_pct(analysis)
+    out: list = [
+        Paragraph("Episode close-ups", styles.H1),
+        Paragraph(
+            "Raw CO2 waveform with the SpO2 trend beneath, from shortly before onset to after the "
+            "end; the shaded band is the episode.",
+            styles.BODY,
+        ),
+    ]
+    if left:
+        out.append(
+            Paragraph(
+                para_text(
+                    f"{len(left)} of {len(analysis.episodes)} episodes have no close-up (at most "
+                    f"{closeups.MAX_CLOSEUPS}, most severe and longest kept): "
+                    + ", ".join(e.id for e in left)
+                    + ". They are in the table and the strips."
+                ),
+                styles.BODY,
+            )
+        )
+    clock = partial(clock_text, s)
+    for ep in shown:
+        caption = Paragraph(
+            para_text(
+                f"{ep.id} \u00b7 {words(ep.kind)} \u00b7 onset {clock(ep.start_s)} \u00b7 "
+                f"{duration_text(ep.duration_s)} \u00b7 severity {ep.severity} \u2014 "
+                f"{closeups.window_note(ep, clock)}"
+            ),
+            styles.SMALL_BOLD,
+        )
+        out.append(
+            KeepTogether([caption, closeups.closeup(analysis, ep, width_pt, line), Spacer(1, 6)])
+        )
+    return out
+
+
+def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | None) -> list:
+    """Every flowable of the record, in page order."""
+    story: list = []
+    story += header_flowables(analysis, width_pt)
+    story += summary_flowables(analysis, width_pt)
+    story += dose_flowables(analysis, width_pt)
+    story += trend_flowables(analysis, width_pt)
+    story += [PageBreak()] + episode_flowables(analysis, width_pt)
+    story += closeup_flowables(analysis, width_pt)
+    story += quality_flowables(analysis, width_pt)
+    story.append(KeepTogether(caution_flowables(analysis)))
+    # sign-off and provenance stay together, so the hashes are always on the last page
+    closing = signoff_flowables(width_pt) + [Spacer(1, 10)]
+    closing += provenance_flowables(analysis, width_pt, source_date_epoch)
+    story.append(KeepTogether(closing))
+    return story
+
+
+def episodes_json_text(analysis: Analysis) -> str:
+    """The ``sedreport episodes --format json`` object as text (``episodes_to_dict``)."""
+    from sedreport.analysis import episodes_to_dict
+
+    return json.dumps(episodes_to_dict(analysis), indent=2, allow_nan=False) + "\n"
+
+
+def render_record(
+    analysis: Analysis,
+    path: str | os.PathLike[str],
+    paper: str = "a4",
+    json_path: str | os.PathLike[str] | None = None,
+) -> Path:
+    """Write the PDF sedation record of one analysed session.
+
+    Parameters
+    ----------
+    analysis : Analysis
+        The analysed session (``sedreport.analysis.analyse_session``).
+    path : path-like
+        Output PDF. Written atomically: a temporary file in the same directory is moved into
+        place only when complete; on any error no file is left behind.
+    paper : {"a4", "letter"}
+        Paper size.
+    json_path : path-like, optional
+        Also write the episodes JSON there (same content as ``sedreport episodes --format
+        json``); written atomically, and only when the PDF succeeds.
+
+    Returns
+    -------
+    Path
+        The written PDF.
+
+    Notes
+    -----
+    With ``SOURCE_DATE_EPOCH`` set, the PDF's dates come from it and its document id is fixed,
+    so the same inputs give byte-identical files (reproducible-builds.org convention).
+    """
+    width_pt = styles.frame_width(paper)
+    epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip() or None
+    story = build_story(analysis, width_pt, epoch)
+    json_text = episodes_json_text(analysis) if json_path is not None else None
+    sid = analysis.session.session_id
+    target = Path(path)
+    with atomic_output(target) as tmp, ExitStack() as extra:
+        doc = record_document(
+            str(tmp),
+            paper,
+            session_id=sid,
+            title=f"Sedation record {sid}",
+            subject=f"Review of recorded monitoring data, session {sid}",
+            version=__version__,
+            invariant=epoch is not None,
+        )
+        doc.build(story, canvasmaker=numbered_canvas(sid, __version__))
+        if json_text is not None:
+            tmp_json = extra.enter_context(atomic_output(json_path))
+            tmp_json.write_text(json_text, encoding="utf-8")
+    return target

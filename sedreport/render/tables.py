@@ -1,0 +1,300 @@
+"""The doses table (with per-kg and cumulative totals per drug) and the episode table."""
+
+from __future__ import annotations
+
+import math
+
+from reportlab.platypus import Paragraph, Table, TableStyle
+
+from sedreport.analysis import Analysis
+from sedreport.episodes.model import Episode
+from sedreport.render import styles
+from sedreport.render.fmt import DASH, amount_text, clock_text, duration_text, number_text, words
+from sedreport.render.styles import para_text
+from sedreport.session import Dose, Session
+
+
+def cell(text: object, style=styles.CELL) -> Paragraph:
+    """A table cell paragraph (escaped, WinAnsi-safe); ``<br/>`` joins given lines."""
+    if isinstance(text, list | tuple):
+        return Paragraph("<br/>".join(para_text(t) for t in text) or DASH, style)
+    return Paragraph(para_text(text), style)
+
+
+def grid_table(rows: list[list], widths: list[float], repeat: int = 1) -> Table:
+    """A table with a shaded heading row, light rules and a repeated heading on new pages."""
+    table = Table(rows, colWidths=widths, repeatRows=repeat, hAlign="LEFT")
+    table.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("BACKGROUND", (0, 0), (-1, repeat - 1), styles.HEAD_FILL),
+                ("LINEBELOW", (0, 0), (-1, -1), 0.3, styles.GRID),
+                ("LINEBELOW", (0, repeat - 1), (-1, repeat - 1), 0.6, styles.AXIS),
+                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+                ("LEFTPADDING", (0, 0), (-1, -1), 2),
+                ("RIGHTPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
+    return table
+
+
+def scaled(fractions: list[float], width_pt: float) -> list[float]:
+    """Column widths from fractions of the frame width."""
+    total = sum(fractions)
+    return [width_pt * f / total for f in fractions]
+
+
+def _is_mcg(unit: str) -> bool:
+    return unit.lower().startswith(("mcg", "ug", "\u00b5g"))
+
+
+def display_unit(doses: list[Dose]) -> tuple[str, float]:
+    """Unit in which a drug's amounts are shown, and its factor from mg.
+
+    The boluses decide: ``mcg`` when every bolus was written in mcg, else ``mg``. A drug given
+    only by infusion is shown in ``mcg`` when its rates were written in mcg and its whole
+    amount stays below 1 mg, else in ``mg``.
+    """
+    boluses = [d for d in doses if d.kind == "bolus"]
+    if boluses:
+        return ("mcg", 1000.0) if all(_is_mcg(d.unit) for d in boluses) else ("mg", 1.0)
+    if doses and all(_is_mcg(d.unit) for d in doses):
+        return ("mcg", 1000.0) if _infusion_mg(doses) < 1.0 else ("mg", 1.0)
+    return "mg", 1.0
+
+
+def _infusion_mg(doses: list[Dose]) -> float:
+    """Amount in mg of piecewise-constant infusion lines up to the last line."""
+    lines = sorted(doses, key=lambda d: d.time_s)
+    return sum(
+        d.rate_mg_per_h * (nxt.time_s - d.time_s) / 3600.0
+        for d, nxt in zip(lines, lines[1:], strict=False)
+    )
+
+
+def totals_end_s(analysis: Analysis) -> tuple[float, str]:
+    """Time up to which totals are summed and how that time was chosen."""
+    end = analysis.summary.get("sedation_end_s")
+    if isinstance(end, int | float) and math.isfinite(end):
+        return float(end), "end of sedation"
+    return analysis.session.span_s()[1], "end of the recorded data"
+
+
+def _per_kg(d: Dose, unit: str, factor: float, weight: float | None) -> str:
+    if not weight:
+        return DASH
+    if d.kind == "bolus":
+        return amount_text(d.amount_mg * factor / weight, f"{unit}/kg")
+    return amount_text(d.rate_mg_per_h * factor / weight, f"{unit}/kg/h")
+
+
+def dose_rows(session: Session) -> list[list]:
+    """One row a dose line: time, drug, dose as written, route, type, per kg, cumulative."""
+    weight = session.patient.weight_kg
+    rows = []
+    for d in sorted(session.doses, key=lambda x: (x.time_s, x.line)):
+        unit, factor = display_unit([x for x in session.doses if x.drug == d.drug])
+        cumulative = float(session.cumulative_mg(d.drug, d.time_s)) * factor
+        kind = (
+            "bolus"
+            if d.kind == "bolus"
+            else ("infusion stop" if d.rate_mg_per_h == 0 else "infusion rate")
+        )
+        rows.append(
+            [
+                cell(clock_text(session, d.time_s)),
+                cell(d.drug),
+                cell(f"{d.dose:g} {d.unit}"),
+                cell(d.route or DASH),
+                cell(kind),
+                cell(_per_kg(d, unit, factor, weight)),
+                cell(amount_text(cumulative, unit)),
+            ]
+        )
+    return rows
+
+
+def drug_totals(analysis: Analysis) -> list[dict]:
+    """Per drug: display unit, bolus count, bolus total, infusion total, total and per kg."""
+    s = analysis.session
+    end_s, _ = totals_end_s(analysis)
+    weight = s.patient.weight_kg
+    out = []
+    for drug in s.drugs:
+        lines = [d for d in s.doses if d.drug == drug]
+        unit, factor = display_unit(lines)
+        bolus = sum(d.amount_mg for d in lines if d.kind == "bolus") * factor
+        total = float(s.cumulative_mg(drug, end_s)) * factor
+        out.append(
+            {
+                "drug": drug,
+                "unit": unit,
+                "n_bolus": sum(d.kind == "bolus" for d in lines),
+                "bolus": bolus,
+                "infusion": max(total - bolus, 0.0),
+                "total": total,
+                "per_kg": total / weight if weight else None,
+            }
+        )
+    return out
+
+
+def dose_flowables(analysis: Analysis, width_pt: float) -> list:
+    """Doses heading, one row per dose line, and totals per drug."""
+    s = analysis.session
+    out: list = [Paragraph("Doses", styles.H1)]
+    if s.source("doses") is None and not s.doses:
+        out.append(
+            Paragraph("No dose log was given for this session: no doses are shown.", styles.BODY)
+        )
+        return out
+    if not s.doses:
+        out.append(Paragraph("The dose log holds no doses.", styles.BODY))
+        return out
+    head = [
+        cell(h, styles.CELL_BOLD)
+        for h in ("Time", "Drug", "Dose as written", "Route", "Type", "Per kg", "Cumulative")
+    ]
+    out.append(
+        grid_table([head] + dose_rows(s), scaled([1, 1.3, 1.3, 0.7, 1.1, 1.3, 1.3], width_pt))
+    )
+    end_s, why = totals_end_s(analysis)
+    out.append(
+        Paragraph(
+            para_text(
+                f"Totals per drug up to {clock_text(s, end_s)} ({why}); infusions integrated at the "
+                "written rate until the next rate line."
+            ),
+            styles.H2,
+        )
+    )
+    head = [
+        cell(h, styles.CELL_BOLD)
+        for h in ("Drug", "Boluses", "Bolus total", "Infusion total", "Total", "Total per kg")
+    ]
+    rows = [head]
+    for t in drug_totals(analysis):
+        rows.append(
+            [
+                cell(t["drug"]),
+                cell(str(t["n_bolus"])),
+                cell(amount_text(t["bolus"], t["unit"])),
+                cell(amount_text(t["infusion"], t["unit"])),
+                cell(amount_text(t["total"], t["unit"]), styles.CELL_BOLD),
+                cell(
+                    amount_text(t["per_kg"], f"{t['unit']}/kg")
+                    if t["per_kg"] is not None
+                    else "- (no weight)"
+                ),
+            ]
+        )
+    out.append(grid_table(rows, scaled([1.3, 0.8, 1.2, 1.2, 1.2, 1.3], width_pt)))
+    return out
+
+
+def worst_lines(ep: Episode) -> list[str]:
+    """Worst values of an episode, one per line."""
+    lines = []
+    if ep.peak_etco2_mmHg is not None:
+        lines.append(f"EtCO2 max {number_text(ep.peak_etco2_mmHg, 0)} mmHg")
+    if ep.min_spo2_pct is not None:
+        lines.append(f"SpO2 min {number_text(ep.min_spo2_pct, 0)} %")
+    if ep.min_rr_per_min is not None:
+        lines.append(f"RR min {number_text(ep.min_rr_per_min, 1)} /min")
+    return lines or [DASH]
+
+
+def dose_lines(ep: Episode) -> list[str]:
+    """Doses before the onset: drug, amount as written, minutes before."""
+    return [
+        f"{d.drug} {d.dose:g} {d.unit}, {d.seconds_before_onset / 60:.1f} min before"
+        for d in ep.preceding_doses
+    ] or ["none in look-back"]
+
+
+def offset_text(seconds_after_onset: float) -> str:
+    """``at +20 s`` after onset, or ``13 s before onset`` for a negative offset."""
+    if seconds_after_onset < 0:
+        return f"{duration_text(-seconds_after_onset)} before onset"
+    return f"at +{duration_text(seconds_after_onset)}"
+
+
+def intervention_lines(ep: Episode) -> list[str]:
+    """Interventions with their timing relative to onset."""
+    out = []
+    for i in ep.interventions:
+        value = f" ({i.value:g})" if i.value is not None else ""
+        out.append(f"{words(i.event)}{value} {offset_text(i.seconds_after_onset)}")
+    return out or ["none"]
+
+
+def episode_row(session: Session, ep: Episode) -> list:
+    """One episode-table row."""
+    kind = ep.kind + (f" ({ep.subtype})" if ep.subtype else "")
+    lead = DASH if ep.capnographic_lead_s is None else duration_text(ep.capnographic_lead_s)
+    return [
+        cell(ep.id, styles.CELL_BOLD),
+        cell(words(kind)),
+        cell(clock_text(session, ep.start_s)),
+        cell(duration_text(ep.duration_s)),
+        cell(worst_lines(ep)),
+        cell(dose_lines(ep)),
+        cell(intervention_lines(ep)),
+        cell(duration_text(ep.time_to_resolution_s)),
+        cell(lead),
+        cell(ep.severity, styles.CELL_BOLD),
+    ]
+
+
+def episode_flowables(analysis: Analysis, width_pt: float) -> list:
+    """Episode table and the notes of each episode."""
+    out: list = [Paragraph("Respiratory episodes", styles.H1)]
+    if not analysis.episodes:
+        out.append(
+            Paragraph(
+                para_text(
+                    f"No episode met the criteria of '{analysis.criteria.name}' in the recorded data."
+                ),
+                styles.BODY,
+            )
+        )
+        return out
+    head = [
+        cell(h, styles.CELL_BOLD)
+        for h in (
+            "ID",
+            "Kind",
+            "Start",
+            "Duration",
+            "Worst values",
+            "Doses before onset",
+            "Interventions (from onset)",
+            "Resolved after",
+            "CO2 lead",
+            "Severity",
+        )
+    ]
+    rows = [head] + [episode_row(analysis.session, ep) for ep in analysis.episodes]
+    out.append(
+        grid_table(rows, scaled([0.42, 1.3, 0.82, 0.8, 1.35, 1.8, 1.8, 0.8, 0.8, 0.75], width_pt))
+    )
+    out.append(
+        Paragraph(
+            "Severity tiers after the World SIVA adverse sedation event tool (Mason et al., Br J "
+            "Anaesth 2012). 'CO2 lead' is how long the apnoea or hypoventilation preceded the first SpO2 below the desaturation threshold it led to.",
+            styles.SMALL,
+        )
+    )
+    noted = [ep for ep in analysis.episodes if ep.notes]
+    if noted:
+        out.append(Paragraph("Episode notes", styles.H2))
+        for ep in noted:
+            out.append(
+                Paragraph(
+                    f"<b>{para_text(ep.id)}</b> " + para_text(" ".join(ep.notes)), styles.SMALL
+                )
+            )
+    return out
