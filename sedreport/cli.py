@@ -23,6 +23,204 @@ def cli() -> None:
     """
 
 
+@cli.command("check")
+@click.argument("sessions", nargs=-1, required=True, type=click.Path(path_type=str))
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["text", "json"]),
+    default="text",
+    show_default=True,
+    help="Output format on stdout.",
+)
+def check_command(sessions: tuple[str, ...], fmt: str) -> None:
+    """Load SESSION folders and show what was read: clock, streams, units, gaps, warnings.
+
+    Exit 0 when every session loads; 2 when any fails (one `error:` line each on stderr,
+    the good ones still reported). This checks the recorded files only; it is not an alarm
+    or a diagnosis, and says nothing about the patient's condition.
+    """
+    import json
+
+    from sedreport.ingest.report import CAUTION, check_sessions, format_text
+
+    good, errors = check_sessions(sessions)
+    if fmt == "json":
+        click.echo(json.dumps({"sessions": good, "errors": errors, "caution": CAUTION}, indent=2))
+    else:
+        for desc in good:
+            click.echo(format_text(desc))
+        if good:
+            click.echo(f"note: {CAUTION}")
+    for line in errors:
+        click.echo(f"error: {line}", err=True)
+    if errors:
+        raise SystemExit(2)
+
+
+@cli.command("record")
+@click.argument("session", type=click.Path(path_type=str))
+@click.option(
+    "-o",
+    "--output",
+    required=True,
+    type=click.Path(path_type=str),
+    help="PDF file to write (written atomically).",
+)
+@click.option(
+    "--criteria",
+    "criteria_path",
+    type=click.Path(path_type=str),
+    default=None,
+    help="Criteria file (default: the session's own, else the shipped default).",
+)
+@click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True)
+@click.option(
+    "--json",
+    "json_path",
+    type=click.Path(path_type=str),
+    default=None,
+    help="Also write the episodes JSON (as `sedreport episodes --format json`).",
+)
+def record_command(
+    session: str, output: str, criteria_path: str | None, paper: str, json_path: str | None
+) -> None:
+    """Write the PDF sedation record of SESSION: header, summary, doses, trend strips,
+    episodes with close-ups, data quality, cautions, sign-off lines and input hashes.
+
+    The record documents and reviews recorded data; it is not an alarm or a diagnosis and
+    does not replace watching the patient. Local sedation policy and licensed practice decide.
+    """
+    from sedreport.analysis import analyse_session
+    from sedreport.ingest import load_session
+    from sedreport.render.record import render_record
+
+    analysis = analyse_session(load_session(session), criteria_path)
+    written = render_record(analysis, output, paper=paper, json_path=json_path)
+    click.echo(f"wrote {written}" + (f" and {json_path}" if json_path else ""))
+
+
+@cli.command("breaths")
+@click.argument("session", type=click.Path(path_type=str))
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["table", "csv", "json"]),
+    default="table",
+    show_default=True,
+    help="Output format on stdout.",
+)
+@click.option(
+    "--criteria",
+    "criteria_path",
+    type=click.Path(path_type=str),
+    default=None,
+    help="Criteria file to check and name in the output (detection uses none).",
+)
+def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
+    """List every breath of SESSION's capnogram: start, end, EtCO2, FiCO2, rate, phase III
+    slope, validity (csv: the documented columns first).
+
+    This documents and reviews recorded data; it is not an alarm or a diagnosis. Clinical
+    observation comes first; local sedation policy and licensed practice decide.
+    """
+    from sedreport.capnography.output import breaths_output
+
+    click.echo(breaths_output(session, fmt, criteria_path), nl=False)
+
+
+@cli.command("episodes")
+@click.argument("session", type=click.Path(path_type=str))
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["table", "csv", "json"]),
+    default="table",
+    show_default=True,
+    help="Output format on stdout (json: the documented contract).",
+)
+@click.option(
+    "--criteria",
+    "criteria_path",
+    type=click.Path(path_type=str),
+    default=None,
+    help="Criteria file (default: the session's own, else the shipped default).",
+)
+def episodes_command(session: str, fmt: str, criteria_path: str | None) -> None:
+    """List the respiratory episodes of SESSION found by published criteria, with linked
+    doses, interventions and a severity tier.
+
+    This documents and reviews recorded data; it is not an alarm or a diagnosis. Clinical
+    observation comes first; local sedation policy and licensed practice decide.
+    """
+    from sedreport.analysis import episodes_output
+
+    click.echo(episodes_output(session, fmt, criteria_path), nl=False)
+
+
+@cli.command("criteria")
+@click.argument("file", required=False, type=click.Path(path_type=str))
+def criteria_command(file: str | None) -> None:
+    """Print the active criteria (FILE, or the shipped default) with their sources.
+
+    Criteria document and review recorded data; they are not alarm settings.
+    """
+    from sedreport.criteria import format_criteria, load_criteria
+
+    click.echo(format_criteria(load_criteria(file)), nl=False)
+
+
+@cli.command("demo")
+@click.argument("outdir", type=click.Path(file_okay=False, path_type=str))
+@click.option(
+    "--scenario",
+    default="all",
+    show_default=True,
+    help="One scenario name, or `all` (also writes a README).",
+)
+@click.option(
+    "--seed", type=int, default=0, show_default=True, help="Same seed, byte-identical files."
+)
+@click.option(
+    "--cohort",
+    type=int,
+    default=None,
+    help="Write N varied cohort sessions instead of the scenarios.",
+)
+@click.option(
+    "--recipe",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Cohort recipe YAML (default: the bundled one).",
+)
+@click.option(
+    "--jobs",
+    type=int,
+    default=1,
+    show_default=True,
+    help="Worker processes for --cohort (0 = one per CPU).",
+)
+def demo_command(
+    outdir: str, scenario: str, seed: int, cohort: int | None, recipe: str | None, jobs: int
+) -> None:
+    """Write invented demo sessions to OUTDIR, each with a `<session_id>.truth.json`.
+
+    The data is invented (no real patient) and is for trying and testing the tool only.
+    sedreport documents and reviews recorded data; it is not an alarm or a diagnosis.
+    """
+    from sedreport import demo
+
+    if cohort is not None:
+        if scenario != "all":
+            raise click.UsageError("--cohort and --scenario cannot be combined")
+        folders = demo.write_cohort(outdir, cohort, seed=seed, recipe=recipe, jobs=jobs)
+    elif scenario == "all":
+        folders = demo.write_examples(outdir, seed=seed)
+    else:
+        folders = [demo.write_scenario(outdir, scenario, seed=seed)]
+    click.echo(f"wrote {len(folders)} invented session(s) to {outdir}")
+
+
 def main() -> None:
     """Console entry point: run the click group, map errors to exit codes."""
     try:

@@ -250,6 +250,16 @@ class Criteria:
         }
 
 
+def _display_path(file: Path) -> str:
+    """How a criteria file is named in outputs: shipped files by their place in the package
+    (``templates/criteria/default.yaml``, the same on every install, so records stay
+    reproducible), a user's file as given."""
+    try:
+        return f"templates/criteria/{file.resolve().relative_to(CRITERIA_DIR.resolve())}"
+    except ValueError:
+        return str(file)
+
+
 def load_criteria(path: str | Path | None = None) -> Criteria:
     """Load and check a criteria file.
 
@@ -264,7 +274,7 @@ def load_criteria(path: str | Path | None = None) -> Criteria:
         When the file is missing, not YAML, or has a wrong, unknown or inconsistent key.
     """
     file = DEFAULT_CRITERIA_FILE if path is None else Path(path)
-    where = str(file)
+    where = _display_path(file)
     try:
         raw = file.read_bytes()
     except OSError as exc:

@@ -141,7 +141,7 @@ def test_episode_linking_end_to_end_on_planted_session():
     # capnographic lead: first SpO2 < 90 % at 225 s, apnoea onset 198.4 s
     assert apnoea.capnographic_lead_s == pytest.approx(225.0 - 198.4)
     assert apnoea.severity == "minor"
-    assert apnoea.start_time == "2026-03-14T09:03:18.400000+00:00"
+    assert apnoea.start_time == "2026-03-14T09:03:18.400+00:00"
     assert (desat.start_s, desat.end_s) == (225.0, 270.0)
     assert desat.min_spo2_pct == 85.0
     assert desat.capnographic_lead_s is None

@@ -106,7 +106,7 @@ def link_episode(
         start_s=finding.start_s,
         end_s=finding.end_s,
         duration_s=duration,
-        start_time=session.clock_time(finding.start_s).isoformat(),
+        start_time=session.clock_time(finding.start_s).isoformat(timespec="milliseconds"),
         severity=tier,
         peak_etco2_mmHg=peak_et,
         min_spo2_pct=min_spo2,

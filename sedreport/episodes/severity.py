@@ -100,7 +100,8 @@ def grade_episode(
     if top is None or int_tier == "none":
         act = "no graded intervention"
     else:
-        act = f"highest intervention {top.event} ({int_tier}-risk intervention)"
+        what = top.event.replace("_", " ")
+        act = f"highest intervention {what} ({int_tier}-risk intervention)"
     return tier, (
         f"Severity {tier} after {_SOURCE}: {act}; episode descriptor: {why} ({desc_tier})."
     )

@@ -106,7 +106,8 @@ def _attention(session: Session, episodes: tuple[Episode, ...], quality: dict) -
     for e in episodes:
         if tier_rank(e.severity) >= tier_rank("moderate"):
             out.append(
-                f"{e.id} {e.kind} at {e.start_time} ({e.duration_s:.0f} s) graded {e.severity}."
+                f"{e.id} {e.kind} at {session.clock_time(e.start_s):%H:%M:%S} "
+                f"({e.duration_s:.0f} s) graded {e.severity}."
             )
     out.extend(quality["limitations"])
     if not session.doses:
