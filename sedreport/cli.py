@@ -13,6 +13,23 @@ import click
 from sedreport import __version__
 from sedreport.errors import SedreportError
 
+#: Shared options, defined once.
+criteria_option = click.option(
+    "--criteria",
+    "criteria_path",
+    type=click.Path(path_type=str),
+    default=None,
+    help="Criteria file (default: the session's own, else the shipped default).",
+)
+table_format_option = click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["table", "csv", "json"]),
+    default="table",
+    show_default=True,
+    help="Output format on stdout (csv and json: the documented contract).",
+)
+
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="sedreport")
@@ -67,13 +84,7 @@ def check_command(sessions: tuple[str, ...], fmt: str) -> None:
     type=click.Path(path_type=str),
     help="PDF file to write (written atomically).",
 )
-@click.option(
-    "--criteria",
-    "criteria_path",
-    type=click.Path(path_type=str),
-    default=None,
-    help="Criteria file (default: the session's own, else the shipped default).",
-)
+@criteria_option
 @click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True)
 @click.option(
     "--json",
@@ -102,21 +113,8 @@ def record_command(
 
 @cli.command("breaths")
 @click.argument("session", type=click.Path(path_type=str))
-@click.option(
-    "--format",
-    "fmt",
-    type=click.Choice(["table", "csv", "json"]),
-    default="table",
-    show_default=True,
-    help="Output format on stdout.",
-)
-@click.option(
-    "--criteria",
-    "criteria_path",
-    type=click.Path(path_type=str),
-    default=None,
-    help="Criteria file to check and name in the output (detection uses none).",
-)
+@table_format_option
+@criteria_option
 def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
     """List every breath of SESSION's capnogram: start, end, EtCO2, FiCO2, rate, phase III
     slope, validity (csv: the documented columns first).
@@ -131,21 +129,8 @@ def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
 
 @cli.command("episodes")
 @click.argument("session", type=click.Path(path_type=str))
-@click.option(
-    "--format",
-    "fmt",
-    type=click.Choice(["table", "csv", "json"]),
-    default="table",
-    show_default=True,
-    help="Output format on stdout (json: the documented contract).",
-)
-@click.option(
-    "--criteria",
-    "criteria_path",
-    type=click.Path(path_type=str),
-    default=None,
-    help="Criteria file (default: the session's own, else the shipped default).",
-)
+@table_format_option
+@criteria_option
 def episodes_command(session: str, fmt: str, criteria_path: str | None) -> None:
     """List the respiratory episodes of SESSION found by published criteria, with linked
     doses, interventions and a severity tier.

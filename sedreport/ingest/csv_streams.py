@@ -18,7 +18,7 @@ from sedreport.ingest.streams import (
     check_range,
     median_rate_hz,
 )
-from sedreport.ingest.times import ParsedTimes, parse_times
+from sedreport.ingest.times import parse_times, table_notes
 from sedreport.ingest.units import co2_to_mmhg
 from sedreport.session import Capnogram, OximetryTrend, QualityFinding, SourceInfo
 
@@ -26,22 +26,6 @@ from sedreport.session import Capnogram, OximetryTrend, QualityFinding, SourceIn
 def _table(raw: RawFile, ctx: ReadContext, required: tuple[str, ...], optional=()) -> CsvTable:
     text = decode_text(raw, ctx.session)
     return read_csv_table(text, f"{ctx.session}/{raw.rel}", required, optional)
-
-
-def _common_notes(
-    role: str, table: CsvTable, times: ParsedTimes, started_offset: str
-) -> tuple[list, list]:
-    findings: list[QualityFinding] = []
-    warnings: list[str] = []
-    if times.naive_rows:
-        msg = f"{role}: {times.naive_rows} timestamps without UTC offset read in started's offset ({started_offset})"
-        findings.append(QualityFinding("naive_time", role, msg))
-        warnings.append(msg)
-    if table.blank_lines:
-        warnings.append(f"{role}: {table.blank_lines} blank lines skipped")
-    if table.extra_columns:
-        warnings.append(f"{role}: columns not used: {', '.join(map(repr, table.extra_columns))}")
-    return findings, warnings
 
 
 def read_co2_csv(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
@@ -54,7 +38,7 @@ def read_co2_csv(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
     times = parse_times(table, ctx.started, spec.clock_offset_s)
     check_increasing(times.time_s, table.at)
     values = column_numbers(table, "co2", "CO2 value", allow_blank=True)
-    findings, warnings = _common_notes("co2", table, times, _offset(ctx))
+    findings, warnings = table_notes("co2", table, times, ctx.started)
     unit = spec.units or "mmHg"
     if spec.units is None:
         warnings.append("co2: units not given in session.yaml; mmHg assumed")
@@ -100,10 +84,6 @@ def _check_co2(mmhg: np.ndarray, given: np.ndarray, unit: str, locate) -> None:
         )
 
 
-def _offset(ctx: ReadContext) -> str:
-    return ctx.started.isoformat(timespec="seconds")[19:]
-
-
 def read_spo2_csv(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
     """Read the oximeter trend; blank SpO2/pulse cells stay NaN and are counted."""
     table = _table(raw, ctx, ("time", "spo2"), ("pulse",))
@@ -117,7 +97,7 @@ def read_spo2_csv(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         check_range(pulse, PULSE_LIMITS_BPM, "pulse", "/min", table.at)
     else:
         pulse = np.full(spo2.shape, np.nan)
-    findings, warnings = _common_notes("spo2", table, times, _offset(ctx))
+    findings, warnings = table_notes("spo2", table, times, ctx.started)
     blanks = {"SpO2": spo2, "pulse": pulse} if has_pulse else {"SpO2": spo2}
     for label, arr in blanks.items():
         n_blank = int(np.isnan(arr).sum())

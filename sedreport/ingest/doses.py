@@ -17,8 +17,8 @@ from sedreport.ingest._yaml import SourceSpec
 from sedreport.ingest.csv_reader import column_numbers, column_text, read_csv_table
 from sedreport.ingest.files import RawFile, decode_text, is_gzip
 from sedreport.ingest.streams import Loaded, ReadContext
-from sedreport.ingest.times import parse_times
-from sedreport.session import Dose, QualityFinding, SourceInfo
+from sedreport.ingest.times import parse_times, table_notes
+from sedreport.session import Dose, SourceInfo
 
 #: mg per unit of mass. "ug", "µg" (micro sign) and "μg" (Greek mu) are spellings of mcg.
 MASS_MG = {"g": 1000.0, "mg": 1.0, "mcg": 1e-3, "ug": 1e-3, "\u00b5g": 1e-3, "\u03bcg": 1e-3}
@@ -81,16 +81,7 @@ def read_doses(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         )
         for i in range(len(table))
     ]
-    warnings = (
-        [f"doses: columns not used: {', '.join(map(repr, table.extra_columns))}"]
-        if table.extra_columns
-        else []
-    )
-    findings = []
-    if times.naive_rows:
-        msg = f"doses: {times.naive_rows} timestamps without UTC offset read in started's offset"
-        findings.append(QualityFinding("naive_time", "doses", msg))
-        warnings.append(msg)
+    findings, warnings = table_notes("doses", table, times, ctx.started)
     info = SourceInfo(
         role="doses",
         file=raw.rel,

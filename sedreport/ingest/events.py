@@ -14,8 +14,8 @@ from sedreport.ingest._yaml import SourceSpec
 from sedreport.ingest.csv_reader import column_numbers, column_text, read_csv_table
 from sedreport.ingest.files import RawFile, decode_text, is_gzip
 from sedreport.ingest.streams import Loaded, ReadContext
-from sedreport.ingest.times import parse_times
-from sedreport.session import KNOWN_EVENTS, Event, QualityFinding, SourceInfo
+from sedreport.ingest.times import parse_times, table_notes
+from sedreport.session import KNOWN_EVENTS, Event, SourceInfo
 
 #: Oxygen flow limits for ``oxygen_increase`` values, L/min (same as ``oxygen.flow_l_min``).
 FLOW_LIMITS_L_MIN = (0.0, 15.0)
@@ -54,16 +54,7 @@ def read_events(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         )
         for i in range(len(table))
     ]
-    warnings = (
-        [f"events: columns not used: {', '.join(map(repr, table.extra_columns))}"]
-        if table.extra_columns
-        else []
-    )
-    findings = []
-    if times.naive_rows:
-        msg = f"events: {times.naive_rows} timestamps without UTC offset read in started's offset"
-        findings.append(QualityFinding("naive_time", "events", msg))
-        warnings.append(msg)
+    findings, warnings = table_notes("events", table, times, ctx.started)
     info = SourceInfo(
         role="events",
         file=raw.rel,

@@ -18,6 +18,7 @@ import pandas as pd
 
 from sedreport.errors import SessionError
 from sedreport.ingest.csv_reader import CsvTable
+from sedreport.session import QualityFinding
 
 #: An ISO 8601 UTC offset at the end of a timestamp: Z, +hh, +hhmm or +hh:mm.
 _OFFSET = re.compile(r"\d(?:[zZ]|[+-]\d{2}(?::?\d{2})?)$")
@@ -145,3 +146,33 @@ def edf_start_seconds(file_start: datetime, started: datetime) -> float:
     if file_start.tzinfo is None:
         file_start = file_start.replace(tzinfo=started.tzinfo)
     return (file_start - started).total_seconds()
+
+
+def table_notes(
+    role: str, table: CsvTable, times: ParsedTimes, started: datetime
+) -> tuple[list[QualityFinding], list[str]]:
+    """Findings and warnings every CSV reader reports: naive timestamps, skipped blank lines,
+    unused columns (counted, never dropped silently).
+
+    Parameters
+    ----------
+    role : str
+        ``co2``, ``spo2``, ``doses`` or ``events``.
+    started : datetime
+        The session's ``started``; its UTC offset is named for naive timestamps.
+    """
+    findings: list[QualityFinding] = []
+    warnings: list[str] = []
+    if times.naive_rows:
+        offset = started.isoformat(timespec="seconds")[19:]
+        msg = (
+            f"{role}: {times.naive_rows} timestamps without UTC offset "
+            f"read in started's offset ({offset})"
+        )
+        findings.append(QualityFinding("naive_time", role, msg))
+        warnings.append(msg)
+    if table.blank_lines:
+        warnings.append(f"{role}: {table.blank_lines} blank lines skipped")
+    if table.extra_columns:
+        warnings.append(f"{role}: columns not used: {', '.join(map(repr, table.extra_columns))}")
+    return findings, warnings
