@@ -237,7 +237,7 @@ def _rebreathing_under_drapes() -> CaseSpec:
             (820.0, "oxygen_increase", 5.0, "drapes lifted"),
             (1020.0, "procedure_end", None, ""),
         ),
-        planted=(Rebreathing(start_s=560.0, duration_s=270.0, fico2_mmHg=9.0, ramp_s=20.0),),
+        planted=(Rebreathing(start_s=560.0, duration_s=270.0, fico2_mmHg=9.0, ramp_s=6.0),),
         flow_l_min=2.0,
         co2_rate_hz=100.0,
         co2_units="kPa",
