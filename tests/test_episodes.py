@@ -296,12 +296,15 @@ def test_obstruction_needs_steeper_plateau_and_slower_upstroke():
     """Shark-fin shape: both indices up against the patient's own baseline (DESIGN.md)."""
     starts = regular(0, 400, 4.0)
     inside = (starts >= 100) & (starts < 180)
-    slope = np.where(inside, 0.045, 0.03)  # 1.5x baseline slope
+    slope = np.where(inside, 0.075, 0.03)  # 2.5x baseline slope
     up = np.where(inside, 0.4, 0.2)  # 2x baseline upstroke
     b = make_breaths(starts, slope_norm=slope, upstroke=up)
     found = detect_obstruction(b, make_baseline(slope_norm=0.03), *NO_GAPS, CRIT)
     # the centred running median keeps step edges: first 100 s, last breath starts 176 s
     assert [(f.start_s, f.end_s) for f in found] == [(100.0, 176.0 + 2.4)]
+    # 1.5x the baseline slope is below the default slope_ratio of 2 (criteria file)
+    mild = make_breaths(starts, slope_norm=np.where(inside, 0.045, 0.03), upstroke=up)
+    assert detect_obstruction(mild, make_baseline(slope_norm=0.03), *NO_GAPS, CRIT) == []
     short = np.where((starts >= 100) & (starts < 156), 0.4, 0.2)  # spans 58.4 s < 60 s
     b_short = make_breaths(starts, slope_norm=slope * (starts < 156), upstroke=short)
     assert detect_obstruction(b_short, make_baseline(), *NO_GAPS, CRIT) == []
@@ -373,7 +376,7 @@ def test_obstruction_onset_dated_by_the_breaths_own_values():
     """The smoothed index finds the run; a noisy second breath must not delay the onset."""
     starts = regular(0, 400, 4.0)
     inside = (starts >= 100) & (starts < 200)
-    slope = np.where(inside, 0.045, 0.03)
+    slope = np.where(inside, 0.075, 0.03)
     slope[(starts == 104) | (starts == 108)] = 0.03  # noisy breaths right after the onset
     up = np.where(inside, 0.4, 0.2)
     b = make_breaths(starts, slope_norm=slope, upstroke=up)
