@@ -78,14 +78,16 @@ def test_dose_rows_and_totals(texts):
     """Totals by hand (common practice: boluses summed, infusion = rate x time).
 
     propofol: 40 + 20 + 20 mg boluses + 4 mg/kg/h x 72 kg = 288 mg/h for 600 s = 48 mg,
-    total 128 mg, 128 / 72 = 1.778 mg/kg; fentanyl 50 mcg, 50 / 72 = 0.694 mcg/kg.
+    total 128 mg, 128 / 72 = 1.778 mg/kg; fentanyl 50 mcg, 50 / 72 = 0.694 mcg/kg. Per-kg
+    figures to three significant figures (common practice for weight-based doses); a stopped
+    infusion has no per-kg rate.
     """
     first = norm(texts[0])
     assert "09:17:00 propofol 40 mg iv bolus 0.556 mg/kg 40 mg" in first  # 40/72 = 0.5556
     assert "09:16:00 fentanyl 50 mcg iv bolus 0.694 mcg/kg 50 mcg" in first
     assert "09:37:00 propofol 4 mg/kg/h iv infusion rate 4 mg/kg/h 80 mg" in first
-    assert "09:47:00 propofol 0 mg/kg/h iv infusion stop 0 mg/kg/h 128 mg" in first
-    assert "propofol 3 80 mg 48 mg 128 mg 1.778 mg/kg" in first
+    assert "09:47:00 propofol 0 mg/kg/h iv infusion stop - 128 mg" in first
+    assert "propofol 3 80 mg 48 mg 128 mg 1.78 mg/kg" in first
     assert "fentanyl 1 50 mcg 0 mcg 50 mcg 0.694 mcg/kg" in first
     assert "up to 09:50:20 (end of sedration)".replace("sedration", "sedation") in first
 
@@ -152,7 +154,7 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         "none",
         "5 min 00 s",
         "-",
-        "none",
+        "below minor",  # tier "none": met the criteria, no World SIVA tier (plain wording)
     ]
 
 
@@ -306,8 +308,8 @@ def test_artefact_nans_render_without_warnings(tmp_path):
     spo2[1150:1400] = np.nan  # covers the E1/E2 close-up windows entirely
     trends = replace(a.trends, spo2_pct=spo2, spo2_artefact=np.isnan(spo2))
     out = render_record(replace(a, trends=trends), tmp_path / "nan.pdf")
-    closeup_page = norm(page_texts(out, slice(3, 4))[0])  # episodes and close-ups page
-    assert "E2 · desaturation · onset" in closeup_page
+    all_text = norm(" ".join(page_texts(out)))
+    assert "E2 · desaturation · onset" in all_text
 
 
 def test_crowded_band_labels_are_named_not_dropped(tmp_path):

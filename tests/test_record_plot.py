@@ -68,8 +68,13 @@ def test_row_plan_is_bounded_for_long_sessions():
 def test_cluster_labels_join_crowded_marks():
     marks = [(10.0, "VS"), (12.0, "AW"), (200.0, "O2+")]
     assert cluster_labels(marks, 3.0, 500.0) == [(15.0, "VS, AW"), (203.0, "O2+")]
-    # a label that would run past the right edge moves left
-    assert cluster_labels([(495.0, "BMV")], 3.0, 500.0, char_pt=3.0) == [(491.0, "BMV")]
+    # a label that would run past the right edge ends before its mark: 495 - 3 - 3 x 3 = 483
+    assert cluster_labels([(495.0, "BMV")], 3.0, 500.0, char_pt=3.0) == [(483.0, "BMV")]
+    # the next mark's glyph must not touch a label: "SUC" from 14 to 23.2 pt, next mark at 26
+    # is within one offset (4 pt) of its end, so the two share a label
+    assert cluster_labels([(10.0, "SUC"), (26.0, "PAU")], 4.0, 500.0, char_pt=3.4) == [
+        (30.0, "SUC, PAU")
+    ]
 
 
 @settings(max_examples=60, deadline=None)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from decimal import ROUND_HALF_UP, Decimal
 
 from sedreport.session import Session
 
@@ -42,12 +43,52 @@ def number_text(value: float | None, digits: int = 0, unit: str = "") -> str:
     return f"{text} {unit}" if unit else text
 
 
+def _trimmed(text: str) -> str:
+    return text.rstrip("0").rstrip(".") if "." in text else text
+
+
+def significant_text(value: float, figures: int = 3) -> str:
+    """``value`` to ``figures`` significant figures in plain notation, no trailing zeros.
+
+    Halves round up, as a person rounds (``2.25`` -> ``2.3`` at two figures), from the shortest
+    decimal form of the float. Whole-number digits are never cut (``1234.5`` -> ``1235`` at
+    three figures). ``1.7778`` -> ``1.78``, ``0.017241`` -> ``0.0172``.
+    """
+    if not math.isfinite(value):
+        return DASH
+    if value == 0:
+        return "0"
+    digits = max(figures - 1 - math.floor(math.log10(abs(value))), 0)
+    exact = Decimal(repr(float(value)))
+    return _trimmed(f"{exact.quantize(Decimal(1).scaleb(-digits), rounding=ROUND_HALF_UP):f}")
+
+
 def amount_text(amount: float, unit: str) -> str:
-    """A drug amount with up to three significant decimals, no trailing zeros."""
-    text = f"{amount:.3f}".rstrip("0").rstrip(".")
-    return f"{text} {unit}"
+    """A drug amount to four significant figures, no trailing zeros.
+
+    ``127.85 mg`` -> ``127.9 mg`` beside ``107.2 mg`` and ``40 mg``; ``2.25 mg`` stays as
+    written and ``0.125 mg`` keeps its figures, so small doses are not rounded away.
+    """
+    if not math.isfinite(amount):
+        return DASH
+    return f"{significant_text(amount, 4)} {unit}"
+
+
+def per_kg_text(value: float, unit: str) -> str:
+    """A weight-based dose or rate to three significant figures (``1.78 mg/kg``)."""
+    return f"{significant_text(value)} {unit}"
 
 
 def words(name: str) -> str:
     """``airway_repositioning`` -> ``airway repositioning``."""
     return name.replace("_", " ")
+
+
+#: How severity tiers read on the page; ``none`` means the episode met the criteria but reached
+#: no tier of the World SIVA tool (Mason et al., Br J Anaesth 2012).
+SEVERITY_WORDS: dict[str, str] = {"none": "below minor"}
+
+
+def severity_text(tier: str) -> str:
+    """``minor`` / ``moderate`` / ``sentinel`` as they are; ``none`` -> ``below minor``."""
+    return SEVERITY_WORDS.get(tier, words(tier))

@@ -6,7 +6,15 @@ from reportlab.platypus import Paragraph, Table, TableStyle
 
 from sedreport.analysis import Analysis
 from sedreport.render import styles
-from sedreport.render.fmt import DASH, clock_text, duration_text, number_text, words
+from sedreport.render.fmt import (
+    DASH,
+    clock_text,
+    duration_text,
+    number_text,
+    severity_text,
+    words,
+)
+from sedreport.render.glossary import TermMark, standard_terms
 from sedreport.render.styles import para_text
 
 
@@ -52,8 +60,8 @@ def header_pairs(analysis: Analysis) -> list[tuple[str, str]]:
         ("Session", s.session_id),
         ("Date", s.started.strftime("%Y-%m-%d")),
         ("Start", s.started.strftime("%H:%M:%S (UTC%z)").replace("(UTC+0000)", "(UTC)")),
-        ("Area", s.area or DASH),
-        ("Procedure", s.procedure or DASH),
+        ("Area", words(s.area) if s.area else DASH),
+        ("Procedure", words(s.procedure) if s.procedure else DASH),
         ("Target depth", s.target_depth or DASH),
         ("Patient ref", p.ref or DASH),
         ("Age", number_text(p.age_years, 0, "years")),
@@ -74,19 +82,40 @@ def header_flowables(analysis: Analysis, width_pt: float) -> list:
     title = Paragraph(para_text(f"Sedation record - {s.session_id}"), styles.TITLE)
     sub = Paragraph(
         para_text(
-            f"{s.started.strftime('%Y-%m-%d %H:%M')} \u00b7 {s.area or 'area not stated'} \u00b7 "
-            f"{s.procedure or 'procedure not stated'} \u00b7 documents and reviews recorded "
+            f"{s.started.strftime('%Y-%m-%d %H:%M')} \u00b7 {words(s.area or 'area not stated')} "
+            f"\u00b7 {words(s.procedure or 'procedure not stated')} \u00b7 documents and reviews recorded "
             "monitoring data; not an alarm, not a diagnosis"
         ),
         styles.SUBTITLE,
     )
-    return [title, sub, _grid(header_pairs(analysis), width_pt)]
+    grid = _grid(header_pairs(analysis), width_pt)
+    return [title, sub, grid, TermMark(standard_terms("ASA", "UTC"))]
 
 
-def _counts_text(counts: dict | None) -> str:
+def _counts_text(counts: dict | None, name=words) -> str:
     if not counts:
         return "none"
-    return ", ".join(f"{words(str(k))} {v}" for k, v in counts.items() if v) or "none"
+    return ", ".join(f"{name(str(k))} {v}" for k, v in counts.items() if v) or "none"
+
+
+def _episodes_text(analysis: Analysis) -> str:
+    """``2: apnoea 1, desaturation 1``, or ``none`` when no episode was found."""
+    if not analysis.episodes:
+        return "none"
+    return f"{len(analysis.episodes)}: {_counts_text(analysis.summary.get('episodes_by_kind'))}"
+
+
+def _coverage_text(present: bool, pct: float | None, missing: str) -> str:
+    return number_text(pct, 0, "% of sedation time") if present else missing
+
+
+def _longest_apnoea_text(analysis: Analysis) -> str:
+    """Longest apnoea, or why there is none (no apnoea found / no CO2 to look in)."""
+    if analysis.session.co2 is None:
+        return "not assessed (no CO2)"
+    if not any(e.kind == "apnoea" for e in analysis.episodes):
+        return "none detected"
+    return duration_text(analysis.summary.get("longest_apnoea_s"))
 
 
 def summary_pairs(analysis: Analysis) -> list[tuple[str, str]]:
@@ -97,11 +126,17 @@ def summary_pairs(analysis: Analysis) -> list[tuple[str, str]]:
     b = analysis.baseline
     return [
         ("Sedation", f"{duration_text(sm.get('sedation_duration_s'))} ({span})"),
-        ("CO2 coverage", number_text(sm.get("co2_coverage_pct"), 0, "% of sedation time")),
-        ("SpO2 coverage", number_text(sm.get("spo2_coverage_pct"), 0, "% of sedation time")),
-        ("Episodes", f"{len(analysis.episodes)}: {_counts_text(sm.get('episodes_by_kind'))}"),
-        ("By severity", _counts_text(sm.get("episodes_by_severity"))),
-        ("Longest apnoea", duration_text(sm.get("longest_apnoea_s"))),
+        (
+            "CO2 coverage",
+            _coverage_text(s.co2 is not None, sm.get("co2_coverage_pct"), "no CO2 file"),
+        ),
+        (
+            "SpO2 coverage",
+            _coverage_text(s.spo2 is not None, sm.get("spo2_coverage_pct"), "no oximetry file"),
+        ),
+        ("Episodes", _episodes_text(analysis)),
+        ("By severity", _counts_text(sm.get("episodes_by_severity"), severity_text)),
+        ("Longest apnoea", _longest_apnoea_text(analysis)),
         ("Lowest SpO2", number_text(sm.get("min_spo2_pct"), 0, "%")),
         ("SpO2 < 90 %", duration_text(sm.get("time_below_90_s"))),
         ("Highest EtCO2", number_text(sm.get("max_etco2_mmHg"), 0, "mmHg")),
@@ -137,5 +172,16 @@ def summary_flowables(analysis: Analysis, width_pt: float) -> list:
             )
         )
         out.append(box)
-    out.append(Paragraph(para_text(f"Baseline: {analysis.baseline.method}"), styles.SMALL))
+    out.append(Paragraph(para_text(baseline_sentence(analysis)), styles.SMALL))
+    out.append(TermMark(standard_terms("CO2", "SpO2", "EtCO2", "RR")))
     return out
+
+
+def baseline_sentence(analysis: Analysis) -> str:
+    """Where the patient's own baseline came from, with its window in clock time."""
+    b, s = analysis.baseline, analysis.session
+    a, z = b.window_s
+    return (
+        f"Baseline (the patient's own reference values) from {clock_text(s, a)} to "
+        f"{clock_text(s, z)}: {b.method}."
+    )

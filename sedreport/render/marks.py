@@ -69,11 +69,17 @@ def _dose_marks(
                     strokeWidth=0.6,
                 )
             )
-        unit = "" if d.kind == "bolus" else " " + d.unit
-        marks.append((x, f"{d.drug[:4].capitalize()} {d.dose:g}{unit}"))
-    for x, text in cluster_labels(marks, 3.0, right_edge):
+        marks.append((x, mark_text(d)))
+    for x, text in cluster_labels(marks, 4.5, right_edge):
         g.add(label(x, lane_y + 0.3, text, 5.4))
     _infusion_bars(analysis, p, g, lane_y - 1.6)
+
+
+def mark_text(d) -> str:
+    """Label of a dose mark: drug as written with the dose and its unit, ``stop`` for rate 0."""
+    if d.kind != "bolus" and d.rate_mg_per_h == 0:
+        return f"{d.drug} stop"
+    return f"{d.drug} {d.dose:g} {d.unit}"
 
 
 def cluster_labels(
@@ -88,7 +94,7 @@ def cluster_labels(
     offset_pt : float
         Gap between a mark and its label.
     right_pt : float
-        Right edge available; a label that would run past it moves left.
+        Right edge available; a label that would run past it goes before the marks instead.
     char_pt : float
         Approximate width of one label character in points.
     """
@@ -98,15 +104,19 @@ def cluster_labels(
             last = clusters[-1]
             joined = ", ".join(t for _, t in last)
             label_end = last[-1][0] + offset_pt + len(joined) * char_pt
-            if x - last[-1][0] < 3 * offset_pt or x <= label_end:
+            # the next mark's own glyph (about offset_pt wide) must not touch the label either
+            if x - last[-1][0] < 3 * offset_pt or x - offset_pt <= label_end:
                 last.append((x, text))
                 continue
         clusters.append([(x, text)])
     placed = []
     for cl in clusters:
         text = ", ".join(t for _, t in cl)
+        width = len(text) * char_pt
         x = cl[-1][0] + offset_pt
-        placed.append((min(x, right_pt - len(text) * char_pt), text))
+        if x + width > right_pt:  # no room after the marks: end the label before the first
+            x = max(cl[0][0] - offset_pt - width, 0.0)
+        placed.append((x, text))
     return placed
 
 
@@ -162,5 +172,5 @@ def _intervention_marks(
             )
         )
         marks.append((x, styles.INTERVENTION_CODES.get(e.event, e.event[:3].upper())))
-    for x, text in cluster_labels(marks, 3.5, right_edge, char_pt=3.4):
+    for x, text in cluster_labels(marks, 4.0, right_edge, char_pt=3.4):
         g.add(label(x, lane_y + 0.3, text, 5.4))

@@ -6,10 +6,17 @@ every finished page's state and draws the footers at save time, when the total i
 
 from __future__ import annotations
 
+from reportlab.lib.utils import simpleSplit
 from reportlab.pdfgen import canvas as rl_canvas
-from reportlab.platypus import BaseDocTemplate, Frame, PageTemplate
+from reportlab.platypus import BaseDocTemplate, CondPageBreak, Frame, PageTemplate
+from reportlab.platypus.doctemplate import FrameBreak
 
 from sedreport.render import styles
+from sedreport.render.glossary import glossary_line
+
+#: Space in points kept above the footer rule for the abbreviations of the page.
+GLOSSARY_PT: float = 16.0
+GLOSSARY_FONT_PT: float = 5.6
 
 #: Running head on every page (a caution that survives when a single page is copied).
 RUNNING_HEAD = "Review of recorded monitoring data - not an alarm, not a diagnosis"
@@ -20,6 +27,18 @@ def footer_text(session_id: str, page: int, pages: int, version: str) -> str:
     return f"{session_id} \u00b7 page {page} of {pages} \u00b7 sedreport {version}"
 
 
+class SectionBreak(CondPageBreak):
+    """A new page when on the first page (kept for the summary sheet) or when less than
+    ``height`` points are left; otherwise the section follows on the same page."""
+
+    def wrap(self, avail_width: float, avail_height: float) -> tuple[float, float]:
+        frame = self._doctemplateAttr("frame")
+        first = self._doctemplateAttr("page") == 1
+        if frame is not None and (first or avail_height < self.height):
+            frame.add_generated_content(FrameBreak)
+        return 0, 0
+
+
 def numbered_canvas(session_id: str, version: str) -> type[rl_canvas.Canvas]:
     """A canvas class that writes the provenance footer with the final page count."""
 
@@ -27,9 +46,11 @@ def numbered_canvas(session_id: str, version: str) -> type[rl_canvas.Canvas]:
         def __init__(self, *args: object, **kwargs: object) -> None:
             super().__init__(*args, **kwargs)
             self._page_states: list[dict] = []
+            self.page_terms: dict[str, str] = {}  # filled by glossary.TermMark while drawing
 
         def showPage(self) -> None:  # noqa: N802 (reportlab API name)
             self._page_states.append(dict(self.__dict__))
+            self.page_terms = {}
             self._startPage()
 
         def save(self) -> None:
@@ -51,6 +72,7 @@ def numbered_canvas(session_id: str, version: str) -> type[rl_canvas.Canvas]:
             self.setFont(styles.FONT, 7.5)
             text = footer_text(session_id, self.getPageNumber(), total, version)
             self.drawCentredString(width / 2, styles.FOOTER_PT, styles.pdf_text(text))
+            self._draw_glossary(width)
             self.setFont(styles.FONT, 6.5)
             self.setFillColor(styles.AXIS)
             self.drawString(margin, height - margin + 12, RUNNING_HEAD)
@@ -60,6 +82,23 @@ def numbered_canvas(session_id: str, version: str) -> type[rl_canvas.Canvas]:
                 styles.pdf_text(f"Sedation record {session_id}"),
             )
             self.restoreState()
+
+        def _draw_glossary(self, width: float) -> None:
+            if not self.page_terms:
+                return
+            margin = styles.MARGIN_PT
+            text = styles.pdf_text(glossary_line(self.page_terms))
+            size = GLOSSARY_FONT_PT
+            lines = simpleSplit(text, styles.FONT, size, width - 2 * margin)
+            while len(lines) * (size + 1) > GLOSSARY_PT + 5 and size > 4.4:
+                size -= 0.3  # many terms: a smaller font rather than text under the body
+                lines = simpleSplit(text, styles.FONT, size, width - 2 * margin)
+            self.setFont(styles.FONT, size)
+            self.setFillColor(styles.INK)
+            y = styles.FOOTER_PT + 11 + (len(lines) - 1) * (size + 1)
+            for line in lines:
+                self.drawString(margin, y, line)
+                y -= size + 1
 
     return _NumberedCanvas
 
@@ -95,7 +134,7 @@ def record_document(
         leftMargin=margin,
         rightMargin=margin,
         topMargin=margin,
-        bottomMargin=margin + 6,
+        bottomMargin=margin + 6 + GLOSSARY_PT,
         title=title,
         author=f"sedreport {version}",
         subject=subject,
@@ -104,8 +143,7 @@ def record_document(
         invariant=1 if invariant else 0,
         pageCompression=1,
     )
-    frame = Frame(
-        margin, margin + 6, width - 2 * margin, height - 2 * margin - 6, id="body", showBoundary=0
-    )
+    bottom = margin + 6 + GLOSSARY_PT
+    frame = Frame(margin, bottom, width - 2 * margin, height - margin - bottom, id="body")
     doc.addPageTemplates([PageTemplate(id="page", frames=[frame])])
     return doc

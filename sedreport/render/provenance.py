@@ -13,6 +13,7 @@ from sedreport.analysis import Analysis
 from sedreport.errors import SedreportError
 from sedreport.render import styles
 from sedreport.render.fmt import number_text
+from sedreport.render.glossary import TermMark, standard_terms
 from sedreport.render.quality import missing_streams
 from sedreport.render.styles import para_text
 from sedreport.render.tables import cell, grid_table, scaled
@@ -72,6 +73,7 @@ def caution_flowables(analysis: Analysis) -> list:
             f"<b>Limits of this record.</b> {para_text(limits_sentence(analysis))}", styles.BODY
         )
     )
+    out.append(TermMark(standard_terms("CO2", "EtCO2", "SpO2")))
     return out
 
 
@@ -136,5 +138,5 @@ def provenance_flowables(
             styles.BODY,
         ),
         Spacer(1, 3),
-        grid_table(rows, scaled([0.7, 1.6, 3.6], width_pt)),
+        grid_table(rows, scaled([0.7, 1.6, 3.6], width_pt), terms=standard_terms("SHA-256", "UTC")),
     ]

@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
-from reportlab.platypus import Paragraph
+from reportlab.platypus import CondPageBreak, Paragraph
 
 from sedreport.analysis import Analysis
 from sedreport.render import styles
 from sedreport.render.fmt import DASH, clock_text, number_text, words
+from sedreport.render.glossary import standard_terms, unit_terms
 from sedreport.render.styles import para_text
 from sedreport.render.tables import cell, grid_table, scaled
 
@@ -71,7 +72,9 @@ def sources_table(analysis: Analysis, width_pt: float):
                 cell(_span_text(analysis, src.span_s)),
             ]
         )
-    return grid_table(rows, scaled([0.6, 1.3, 0.6, 0.6, 0.65, 0.7, 1.6, 1.3], width_pt))
+    widths = scaled([0.6, 1.3, 0.6, 0.6, 0.65, 0.7, 1.6, 1.3], width_pt)
+    conversions = [src.conversion for src in analysis.session.sources]
+    return grid_table(rows, widths, terms=standard_terms("CO2", "SpO2") | unit_terms(conversions))
 
 
 def findings_flowables(analysis: Analysis, width_pt: float) -> list:
@@ -86,7 +89,7 @@ def findings_flowables(analysis: Analysis, width_pt: float) -> list:
             if f.start_s is not None:
                 end = f" to {clock_text(s, f.end_s)}" if f.end_s is not None else ""
                 when = clock_text(s, f.start_s) + end
-            rows.append([cell(f.kind), cell(f.source), cell(when), cell(f.message)])
+            rows.append([cell(words(f.kind)), cell(f.source), cell(when), cell(f.message)])
         out.append(grid_table(rows, scaled([0.8, 0.6, 1.4, 4.0], width_pt)))
     else:
         out.append(
@@ -109,28 +112,82 @@ def _count_text(value: object) -> str:
 def _value_text(value: float, unit: str) -> str:
     if value is None or value != value:
         return "switched off"
-    return f"{value:g} {unit}"
+    unit = UNIT_WORDS.get(unit, unit)
+    return f"{value:g}{unit}" if unit == "x" else f"{value:g} {unit}"
+
+
+#: Space (pt) the criteria heading needs below it (its sentence and the first rows), else it
+#: starts on a new page rather than stand alone at a page foot.
+CRITERIA_START_PT: float = 150.0
+
+#: Plain wording of each criteria key (the table shows both, the key for whoever edits the file).
+CRITERION_WORDS: dict[str, str] = {
+    "apnoea.min_duration_s": "shortest apnoea counted",
+    "apnoea.prolonged_s": "prolonged apnoea from",
+    "apnoea.breath_min_etco2_mmHg": "lowest EtCO2 that still counts as a breath",
+    "hypoventilation.etco2_high_mmHg": "EtCO2 at or above",
+    "hypoventilation.rise_from_baseline_mmHg": "EtCO2 rise above baseline",
+    "hypoventilation.rise_from_baseline_pct": "relative EtCO2 rise above baseline",
+    "hypoventilation.bradypnoea_rr_per_min": "slow breathing: RR below",
+    "hypoventilation.hypopnoea_amplitude_fraction": "shallow breathing: CO2 amplitude below",
+    "hypoventilation.min_duration_s": "shortest episode counted",
+    "hypoventilation.max_interruption_s": "longest normal spell inside one episode",
+    "desaturation.spo2_below_pct": "SpO2 below",
+    "desaturation.min_duration_s": "shortest episode counted",
+    "desaturation.severe_below_pct": "severe: SpO2 below",
+    "desaturation.prolonged_s": "prolonged from",
+    "rebreathing.fico2_above_mmHg": "FiCO2 above",
+    "rebreathing.min_duration_s": "shortest episode counted",
+    "rebreathing.max_interruption_s": "longest normal spell inside one episode",
+    "obstruction.slope_ratio": "plateau slope, times the patient's baseline",
+    "obstruction.slope_floor_per_s": "smallest baseline slope used",
+    "obstruction.upstroke_ratio": "upstroke time, times the patient's baseline",
+    "obstruction.smoothing_breaths": "breaths in the running median",
+    "obstruction.min_duration_s": "shortest episode counted",
+    "obstruction.max_interruption_s": "longest normal spell inside one episode",
+    "signal_loss.co2_gap_s": "CO2 sample step that is a gap",
+    "signal_loss.spo2_gap_s": "SpO2 sample step that is a gap",
+    "signal_loss.min_duration_s": "shortest gap reported as an episode",
+    "linking.dose_lookback_s": "doses linked from this long before onset",
+    "linking.intervention_after_s": "actions linked up to this long after the end",
+    "linking.lead_window_s": "SpO2 fall linked up to this long after the end",
+}
+
+#: Units of the criteria files as a person reads them.
+UNIT_WORDS: dict[str, str] = {"1/min": "/min", "fraction": "of baseline", "ratio": "x"}
+
+
+def criterion_cell(section: str, name: str) -> Paragraph:
+    """The plain wording of a criteria key, with the key itself small beneath it."""
+    plain = CRITERION_WORDS.get(f"{section}.{name}", words(name))
+    return Paragraph(
+        f'{para_text(plain)}<br/><font size="{styles.KEY_PT}" color="#595959">'
+        f"{para_text(name)}</font>",
+        styles.CELL,
+    )
 
 
 def criteria_flowables(analysis: Analysis, width_pt: float) -> list:
     """Criteria file used, with every threshold and its source."""
     c = analysis.criteria
     out: list = [
+        CondPageBreak(CRITERIA_START_PT),
         Paragraph("Criteria used", styles.H2),
         Paragraph(para_text(f"{c.name} ({c.path}) - {c.description}"), styles.BODY),
     ]
     head = [cell(h, styles.CELL_BOLD) for h in ("Section", "Threshold", "Value", "Source", "Note")]
     rows = [head] + [
         [
-            cell(i.section),
-            cell(i.name),
+            cell(words(i.section)),
+            criterion_cell(i.section, i.name),
             cell(_value_text(i.value, i.unit)),
             cell(i.source),
             cell(i.note or DASH),
         ]
         for i in c.items
     ]
-    out.append(grid_table(rows, scaled([0.9, 1.4, 0.8, 2.3, 1.8], width_pt)))
+    terms = standard_terms("CO2", "EtCO2", "FiCO2", "SpO2", "RR")
+    out.append(grid_table(rows, scaled([0.9, 1.4, 0.8, 2.3, 1.8], width_pt), terms=terms))
     return out
 
 

@@ -1,8 +1,9 @@
 """The PDF sedation record: :func:`render_record` assembles every section and writes it.
 
-Sections in order: header, summary with attention sentences, doses, trend strips, episode
-table, episode close-ups, data quality, caution notes, then sign-off and provenance on the last
-page. Every page carries "session id · page x of y · sedreport version".
+Sections in order: header, summary with attention sentences, episode table and doses (the
+first page a nurse reads), then the trend strips (never on the first page), episode close-ups, data
+quality, caution notes, and sign-off and provenance on the last page. Every page carries
+"session id · page x of y · sedreport version" and explains the abbreviations it shows.
 """
 
 from __future__ import annotations
@@ -13,16 +14,17 @@ from contextlib import ExitStack
 from functools import partial
 from pathlib import Path
 
-from reportlab.platypus import KeepTogether, PageBreak, Paragraph, Spacer
+from reportlab.platypus import KeepTogether, Paragraph, Spacer
 
 from sedreport import __version__
 from sedreport.analysis import Analysis
 from sedreport.render import closeups, strips, styles
 from sedreport.render.atomic import atomic_output
-from sedreport.render.fmt import clock_text, duration_text, words
+from sedreport.render.fmt import clock_text, duration_text, severity_text, words
+from sedreport.render.glossary import TermMark, span_terms, standard_terms
 from sedreport.render.header import header_flowables, summary_flowables
 from sedreport.render.legend import codes_text, legend
-from sedreport.render.pages import numbered_canvas, record_document
+from sedreport.render.pages import SectionBreak, numbered_canvas, record_document
 from sedreport.render.provenance import (
     caution_flowables,
     provenance_flowables,
@@ -46,13 +48,17 @@ def spo2_line_pct(analysis: Analysis) -> float:
     return DEFAULT_SPO2_LINE_PCT
 
 
+#: Height (pt) of the trend heading, its sentence, legend and codes line above the first row.
+TREND_HEAD_PT: float = 95.0
+
+
 def trend_flowables(analysis: Analysis, width_pt: float) -> list:
     """Trend heading, legend and one row per fixed span of minutes."""
     plan = strips.plan_rows(analysis)
     line = spo2_line_pct(analysis)
     s = analysis.session
     out: list = [
-        PageBreak(),
+        SectionBreak(strips.row_height() + TREND_HEAD_PT),
         Paragraph("Trends", styles.H1),
         Paragraph(
             para_text(
@@ -62,6 +68,7 @@ def trend_flowables(analysis: Analysis, width_pt: float) -> list:
             styles.BODY,
         ),
         legend(width_pt, line),
+        TermMark(standard_terms("UTC")),
         Paragraph(para_text(codes_text()), styles.SMALL),
         Spacer(1, 4),
     ]
@@ -72,7 +79,8 @@ def trend_flowables(analysis: Analysis, width_pt: float) -> list:
             styles.SMALL_BOLD,
         )
         drawing, unlabelled = strips.trend_row(analysis, t0, t1, width_pt, line)
-        parts = [caption, drawing]
+        terms = standard_terms("CO2", "EtCO2", "FiCO2", "RR", "SpO2", "E1, E2")
+        parts = [caption, drawing, TermMark(terms | span_terms(s, t0, t1))]
         if unlabelled:
             note = "Bands too crowded to label here: " + ", ".join(unlabelled) + "."
             parts.append(Paragraph(para_text(note), styles.SMALL))
@@ -87,16 +95,21 @@ def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
     shown, left = closeups.choose_closeups(analysis.episodes)
     s = analysis.session
     line = spo2_line_pct(analysis)
-    out: list = [
+    # the heading and its sentences travel in the first close-up's KeepTogether (reportlab's
+    # keepWithNext does not reach into a KeepTogether), so they never stand alone at a page foot
+    head: list = [
         Paragraph("Episode close-ups", styles.H1),
         Paragraph(
-            "Raw CO2 waveform with the SpO2 trend beneath, from shortly before onset to after the "
-            "end; the shaded band is the episode.",
+            para_text(
+                "Raw CO2 waveform with the SpO2 trend beneath, from shortly before onset to after "
+                f"the end; the shaded band is the episode, the dashed line SpO2 {line:g} %. Marks "
+                "above the waveform are doses and actions as on the trend strips."
+            ),
             styles.BODY,
         ),
     ]
     if left:
-        out.append(
+        head.append(
             Paragraph(
                 para_text(
                     f"{len(left)} of {len(analysis.episodes)} episodes have no close-up (at most "
@@ -108,18 +121,21 @@ def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
             )
         )
     clock = partial(clock_text, s)
+    out: list = []
     for ep in shown:
         caption = Paragraph(
             para_text(
                 f"{ep.id} \u00b7 {words(ep.kind)} \u00b7 onset {clock(ep.start_s)} \u00b7 "
-                f"{duration_text(ep.duration_s)} \u00b7 severity {ep.severity} \u2014 "
+                f"{duration_text(ep.duration_s)} \u00b7 severity {severity_text(ep.severity)} \u2014 "
                 f"{closeups.window_note(ep, clock)}"
             ),
             styles.SMALL_BOLD,
         )
-        out.append(
-            KeepTogether([caption, closeups.closeup(analysis, ep, width_pt, line), Spacer(1, 6)])
-        )
+        a, b = closeups.windows(ep)[0][0], closeups.windows(ep)[-1][1]
+        terms = standard_terms("CO2", "SpO2", "E1, E2") | span_terms(s, a, b)
+        drawing = closeups.closeup(analysis, ep, width_pt, line)
+        lead, head = head, []
+        out.append(KeepTogether([*lead, caption, drawing, TermMark(terms), Spacer(1, 6)]))
     return out
 
 
@@ -128,9 +144,9 @@ def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | No
     story: list = []
     story += header_flowables(analysis, width_pt)
     story += summary_flowables(analysis, width_pt)
+    story += episode_flowables(analysis, width_pt)
     story += dose_flowables(analysis, width_pt)
     story += trend_flowables(analysis, width_pt)
-    story += [PageBreak()] + episode_flowables(analysis, width_pt)
     story += closeup_flowables(analysis, width_pt)
     story += quality_flowables(analysis, width_pt)
     story.append(KeepTogether(caution_flowables(analysis)))

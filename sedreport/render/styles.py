@@ -141,8 +141,11 @@ H1 = _style("h1", 11.5, bold=True, spaceBefore=8, spaceAfter=4, keepWithNext=1)
 H2 = _style("h2", 9.5, bold=True, spaceBefore=5, spaceAfter=2, keepWithNext=1)
 BODY = _style("body", 8.5, spaceAfter=2)
 SMALL = _style("small", 7.2)
+SMALL_KEEP = _style("small_keep", 7.2, keepWithNext=1)
 SMALL_BOLD = _style("small_bold", 7.2, bold=True)
 CELL = _style("cell", 7.2)
 CELL_BOLD = _style("cell_bold", 7.2, bold=True)
+#: Size of criteria keys printed under their plain wording.
+KEY_PT: float = 6.0
 MONO = ParagraphStyle("mono", fontName=FONT_MONO, fontSize=7.0, leading=8.6, textColor=INK)
 BULLET = _style("bullet", 8.5, leftIndent=10, bulletIndent=0, spaceAfter=1.5)

@@ -9,7 +9,17 @@ from reportlab.platypus import Paragraph, Table, TableStyle
 from sedreport.analysis import Analysis
 from sedreport.episodes.model import Episode
 from sedreport.render import styles
-from sedreport.render.fmt import DASH, amount_text, clock_text, duration_text, number_text, words
+from sedreport.render.fmt import (
+    DASH,
+    amount_text,
+    clock_text,
+    duration_text,
+    number_text,
+    per_kg_text,
+    severity_text,
+    words,
+)
+from sedreport.render.glossary import TermMark, dose_terms, standard_terms
 from sedreport.render.styles import para_text
 from sedreport.session import Dose, Session
 
@@ -21,8 +31,16 @@ def cell(text: object, style=styles.CELL) -> Paragraph:
     return Paragraph(para_text(text), style)
 
 
-def grid_table(rows: list[list], widths: list[float], repeat: int = 1) -> Table:
-    """A table with a shaded heading row, light rules and a repeated heading on new pages."""
+def grid_table(
+    rows: list[list], widths: list[float], repeat: int = 1, terms: dict[str, str] | None = None
+) -> Table:
+    """A table with a shaded heading row, light rules and a repeated heading on new pages.
+
+    ``terms`` are abbreviations the table shows; a :class:`TermMark` in the first heading cell
+    names them on every page the table reaches (the heading repeats).
+    """
+    if terms:
+        rows = [[[rows[0][0], TermMark(terms)], *rows[0][1:]], *rows[1:]]
     table = Table(rows, colWidths=widths, repeatRows=repeat, hAlign="LEFT")
     table.setStyle(
         TableStyle(
@@ -84,11 +102,11 @@ def totals_end_s(analysis: Analysis) -> tuple[float, str]:
 
 
 def _per_kg(d: Dose, unit: str, factor: float, weight: float | None) -> str:
-    if not weight:
+    if not weight or (d.kind != "bolus" and d.rate_mg_per_h == 0):
         return DASH
     if d.kind == "bolus":
-        return amount_text(d.amount_mg * factor / weight, f"{unit}/kg")
-    return amount_text(d.rate_mg_per_h * factor / weight, f"{unit}/kg/h")
+        return per_kg_text(d.amount_mg * factor / weight, f"{unit}/kg")
+    return per_kg_text(d.rate_mg_per_h * factor / weight, f"{unit}/kg/h")
 
 
 def dose_rows(session: Session) -> list[list]:
@@ -159,16 +177,21 @@ def dose_flowables(analysis: Analysis, width_pt: float) -> list:
         for h in ("Time", "Drug", "Dose as written", "Route", "Type", "Per kg", "Cumulative")
     ]
     out.append(
-        grid_table([head] + dose_rows(s), scaled([1, 1.3, 1.3, 0.7, 1.1, 1.3, 1.3], width_pt))
+        grid_table(
+            [head] + dose_rows(s),
+            scaled([1, 1.3, 1.3, 0.7, 1.1, 1.3, 1.3], width_pt),
+            terms=dose_terms(s.doses),
+        )
     )
     end_s, why = totals_end_s(analysis)
+    out.append(Paragraph("Totals per drug", styles.H2))
     out.append(
         Paragraph(
             para_text(
-                f"Totals per drug up to {clock_text(s, end_s)} ({why}); infusions integrated at the "
-                "written rate until the next rate line."
+                f"Summed up to {clock_text(s, end_s)} ({why}); infusions integrated at the written "
+                "rate until the next rate line."
             ),
-            styles.H2,
+            styles.SMALL_KEEP,
         )
     )
     head = [
@@ -185,13 +208,17 @@ def dose_flowables(analysis: Analysis, width_pt: float) -> list:
                 cell(amount_text(t["infusion"], t["unit"])),
                 cell(amount_text(t["total"], t["unit"]), styles.CELL_BOLD),
                 cell(
-                    amount_text(t["per_kg"], f"{t['unit']}/kg")
+                    per_kg_text(t["per_kg"], f"{t['unit']}/kg")
                     if t["per_kg"] is not None
                     else "- (no weight)"
                 ),
             ]
         )
-    out.append(grid_table(rows, scaled([1.3, 0.8, 1.2, 1.2, 1.2, 1.3], width_pt)))
+    out.append(
+        grid_table(
+            rows, scaled([1.3, 0.8, 1.2, 1.2, 1.2, 1.3], width_pt), terms=dose_terms(s.doses)
+        )
+    )
     return out
 
 
@@ -231,9 +258,14 @@ def intervention_lines(ep: Episode) -> list[str]:
     return out or ["none"]
 
 
+#: Stream names as a person writes them (a signal_loss subtype names its stream).
+STREAM_WORDS: dict[str, str] = {"co2": "CO2", "spo2": "SpO2"}
+
+
 def episode_row(session: Session, ep: Episode) -> list:
     """One episode-table row."""
-    kind = ep.kind + (f" ({ep.subtype})" if ep.subtype else "")
+    subtype = STREAM_WORDS.get(ep.subtype, ep.subtype) if ep.subtype else ""
+    kind = ep.kind + (f" ({subtype})" if subtype else "")
     lead = DASH if ep.capnographic_lead_s is None else duration_text(ep.capnographic_lead_s)
     return [
         cell(ep.id, styles.CELL_BOLD),
@@ -245,7 +277,7 @@ def episode_row(session: Session, ep: Episode) -> list:
         cell(intervention_lines(ep)),
         cell(duration_text(ep.time_to_resolution_s)),
         cell(lead),
-        cell(ep.severity, styles.CELL_BOLD),
+        cell(severity_text(ep.severity), styles.CELL_BOLD),
     ]
 
 
@@ -278,13 +310,16 @@ def episode_flowables(analysis: Analysis, width_pt: float) -> list:
         )
     ]
     rows = [head] + [episode_row(analysis.session, ep) for ep in analysis.episodes]
-    out.append(
-        grid_table(rows, scaled([0.42, 1.3, 0.82, 0.8, 1.35, 1.8, 1.8, 0.8, 0.8, 0.75], width_pt))
-    )
+    terms = standard_terms("CO2", "EtCO2", "SpO2", "RR", "E1, E2")
+    terms |= dose_terms(d for ep in analysis.episodes for d in ep.preceding_doses)
+    widths = scaled([0.4, 1.15, 0.8, 0.8, 1.65, 1.8, 1.95, 0.85, 0.9, 0.75], width_pt)
+    out.append(grid_table(rows, widths, terms=terms))
     out.append(
         Paragraph(
             "Severity tiers after the World SIVA adverse sedation event tool (Mason et al., Br J "
-            "Anaesth 2012). 'CO2 lead' is how long the apnoea or hypoventilation preceded the first SpO2 below the desaturation threshold it led to.",
+            "Anaesth 2012); 'below minor' means the episode met the criteria but reached no tier. "
+            "'CO2 lead' is how long the apnoea or hypoventilation preceded the first SpO2 below "
+            "the desaturation threshold it led to. Times are clock times; '+24 s' is after onset.",
             styles.SMALL,
         )
     )
@@ -297,4 +332,5 @@ def episode_flowables(analysis: Analysis, width_pt: float) -> list:
                     f"<b>{para_text(ep.id)}</b> " + para_text(" ".join(ep.notes)), styles.SMALL
                 )
             )
+        out.append(TermMark(standard_terms("CO2", "EtCO2", "FiCO2", "SpO2", "RR")))
     return out
