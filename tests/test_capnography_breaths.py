@@ -313,3 +313,11 @@ def test_larger_cardiogenic_ripples_make_no_valid_breath(heart_rate_hz):
     valid = breaths_valid_only(b)
     s = score(valid, truth)
     assert s["recall"] >= 0.99 and s["precision"] >= 0.99
+
+
+def test_subnormal_values_give_no_warning():
+    """Regression (found by hypothesis): a subnormal sample step overflowed a crossing quotient."""
+    x = np.array([0.0, 2.225073858507e-311, 0.0, 7.0, 1.0])
+    cap = Capnogram(np.arange(x.size) / 10.0, x, 10.0)
+    table = find_breaths(cap)
+    assert len(table) == table.start_s.size

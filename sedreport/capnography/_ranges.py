@@ -73,7 +73,8 @@ def crossing_time(t: np.ndarray, x: np.ndarray, j: np.ndarray, level: np.ndarray
     """
     j1 = np.minimum(j + 1, t.size - 1)
     dx = x[j1] - x[j]
-    with np.errstate(divide="ignore", invalid="ignore"):
+    # overflow: a subnormal step (e.g. 1e-311) makes the quotient huge; clipped below
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         frac = np.where(dx != 0, (level - x[j]) / dx, 0.0)
     frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
     return t[j] + frac * (t[j1] - t[j])

@@ -103,11 +103,16 @@ def estimate_baseline(session: Session, breaths: BreathTable, window_s: float = 
     if covered < MIN_PREDOSE_S or sel.sum() < MIN_BREATHS:
         why = (
             f"only {covered:.0f} s of CO2 and {int(sel.sum())} valid breaths before the first"
-            f" dose ({drug} at {t_dose:.1f} s)"
+            f" dose ({drug} at {_when(session, t_dose)})"
         )
         return _first_valid_window(breaths, FALLBACK_S, why)
     method = (
         f"median of {int(sel.sum())} valid breaths in the {window_s:g} s before the first dose"
-        f" ({drug} at {t_dose:.1f} s)"
+        f" ({drug} at {_when(session, t_dose)})"
     )
     return _summarise(breaths, sel, (lo, hi), method)
+
+
+def _when(session: Session, t_s: float) -> str:
+    """Clock time and session-clock seconds of a moment, for the method sentence."""
+    return f"{session.clock_time(t_s):%H:%M:%S}, {t_s:.1f} s"

@@ -107,12 +107,18 @@ def _attention(session: Session, episodes: tuple[Episode, ...], quality: dict) -
         if tier_rank(e.severity) >= tier_rank("moderate"):
             out.append(
                 f"{e.id} {e.kind} at {session.clock_time(e.start_s):%H:%M:%S} "
-                f"({e.duration_s:.0f} s) graded {e.severity}."
+                f"({_duration_text(e.duration_s)}) graded {e.severity}."
             )
     out.extend(quality["limitations"])
     if not session.doses:
         out.append("No doses recorded: the sedation window is the span of the data.")
     return out
+
+
+def _duration_text(duration_s: float) -> str:
+    """``71 s`` as ``1 min 11 s``; under a minute as ``42 s``."""
+    minutes, seconds = divmod(round(duration_s), 60)
+    return f"{minutes} min {seconds} s" if minutes else f"{seconds} s"
 
 
 def _limitations(session: Session, breaths: BreathTable, baseline: Baseline) -> list[str]:
