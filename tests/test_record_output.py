@@ -250,3 +250,14 @@ def test_long_dense_session_has_bounded_output(tmp_path):
         assert len(pdf.pages) <= 14
         assert "15 min per row, 16 row(s)" in norm(pdf.pages[1].extract_text())
     assert out.stat().st_size < 1_000_000
+
+
+def test_output_gets_ordinary_file_permissions(analysis, tmp_path):
+    """The temporary file of the atomic write is 0600; the finished record must not be
+    (common practice: a new file takes 0666 less the umask)."""
+    old = os.umask(0o022)
+    try:
+        out = render_record(analysis, tmp_path / "perm.pdf")
+    finally:
+        os.umask(old)
+    assert out.stat().st_mode & 0o777 == 0o644

@@ -15,6 +15,13 @@ from pathlib import Path
 from sedreport.errors import SedreportError
 
 
+def _umask_mode() -> int:
+    """Permission bits a plain ``open(..., "w")`` would give under the current umask."""
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
+
+
 @contextmanager
 def atomic_output(path: str | os.PathLike[str]) -> Iterator[Path]:
     """Yield a temporary path in ``path``'s directory; move it onto ``path`` on success.
@@ -44,6 +51,7 @@ def atomic_output(path: str | os.PathLike[str]) -> Iterator[Path]:
     try:
         yield tmp
         try:
+            os.chmod(tmp, _umask_mode())  # mkstemp makes 0600; give what open() would
             os.replace(tmp, target)
         except OSError as exc:
             raise SedreportError(f"{target}: cannot write the output ({exc.strerror})") from exc
