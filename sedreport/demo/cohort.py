@@ -150,7 +150,7 @@ def _plant(
         if desat:
             events.append((round(onset + pause - 12.0), "bag_mask_ventilation", None, ""))
             override = {"flow_l_min": 2.0, "apnoea_drop_mmHg_s": rng.uniform(1.55, 1.7)}
-    # Opioids and benzodiazepines first; a hypnotic bolus otherwise (hypopnoeic pattern).
+    # Opioids and benzodiazepines first; a hypnotic bolus otherwise (raised CO2 at a normal rate: the hypercapnic subtype).
     triggers = [d for d in doses if d[2] > 0 and d[0] < hi - 600.0]
     triggers.sort(key=lambda d: (d[1] not in ("fentanyl", "midazolam"), -d[0]))
     if triggers and rng.random() < float(ev["hypoventilation"].get(regimen, 0.0)) * mult:

@@ -86,7 +86,7 @@ def _hypoventilations(spec: CaseSpec, sig: Signals) -> list[dict]:
         high = (s.etco2_mmHg > HYPERCAPNIA_MMHG) | (s.etco2_mmHg >= base + HYPERCAPNIA_RISE_MMHG)
         idx = np.flatnonzero(window & high)
         if idx.size:
-            sub = "bradypnoeic" if h.rr_per_min < BRADYPNOEA_PER_MIN else "hypopnoeic"
+            sub = "bradypnoeic" if h.rr_per_min < BRADYPNOEA_PER_MIN else "hypercapnic"
             out.append(_episode("hypoventilation", sub, s.start_s[idx[0]], s.end_s[idx[-1]]))
     return out
 
