@@ -7,7 +7,7 @@ import numpy as np
 from sedreport.errors import SessionError
 from sedreport.ingest._yaml import SourceSpec
 from sedreport.ingest.csv_reader import CsvTable, column_numbers, read_csv_table
-from sedreport.ingest.files import RawFile, decode_text, is_gzip
+from sedreport.ingest.files import RawFile, decode_text
 from sedreport.ingest.streams import (
     CO2_LIMITS_MMHG,
     PULSE_LIMITS_BPM,
@@ -18,9 +18,9 @@ from sedreport.ingest.streams import (
     check_range,
     median_rate_hz,
 )
-from sedreport.ingest.times import parse_times, table_notes
+from sedreport.ingest.times import csv_source_info, parse_times, table_notes
 from sedreport.ingest.units import co2_to_mmhg
-from sedreport.session import Capnogram, OximetryTrend, QualityFinding, SourceInfo
+from sedreport.session import Capnogram, OximetryTrend, QualityFinding
 
 
 def _table(raw: RawFile, ctx: ReadContext, required: tuple[str, ...], optional=()) -> CsvTable:
@@ -52,18 +52,16 @@ def read_co2_csv(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         warnings.append(msg)
     t = times.time_s[keep]
     rate = median_rate_hz(t, table.at)
-    info = SourceInfo(
-        role="co2",
-        file=raw.rel,
-        sha256=raw.sha256,
-        reader="csv.gz" if is_gzip(raw) else "csv",
-        rows=len(table),
-        clock_offset_s=spec.clock_offset_s,
+    info = csv_source_info(
+        "co2",
+        raw,
+        times,
+        spec.clock_offset_s,
+        len(table),
+        t,
         units_in=unit,
         conversion=conversion,
-        time_style=times.style,
         sample_rate_hz=rate,
-        span_s=(float(t[0]), float(t[-1])),
     )
     return Loaded(Capnogram(t, mmhg[keep], rate), info, tuple(findings), tuple(warnings))
 
@@ -107,17 +105,15 @@ def read_spo2_csv(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
             warnings.append(msg)
     t = times.time_s
     rate = median_rate_hz(t, table.at)
-    info = SourceInfo(
-        role="spo2",
-        file=raw.rel,
-        sha256=raw.sha256,
-        reader="csv.gz" if is_gzip(raw) else "csv",
-        rows=len(table),
-        clock_offset_s=spec.clock_offset_s,
+    info = csv_source_info(
+        "spo2",
+        raw,
+        times,
+        spec.clock_offset_s,
+        len(table),
+        t,
         units_in="%",
         conversion="none",
-        time_style=times.style,
         sample_rate_hz=rate,
-        span_s=(float(t[0]), float(t[-1])),
     )
     return Loaded(OximetryTrend(t, spo2, pulse, rate), info, tuple(findings), tuple(warnings))

@@ -10,15 +10,13 @@ from __future__ import annotations
 
 import re
 
-import numpy as np
-
 from sedreport.errors import SessionError
 from sedreport.ingest._yaml import SourceSpec
 from sedreport.ingest.csv_reader import column_numbers, column_text, read_csv_table
-from sedreport.ingest.files import RawFile, decode_text, is_gzip
-from sedreport.ingest.streams import Loaded, ReadContext
-from sedreport.ingest.times import parse_times, table_notes
-from sedreport.session import Dose, SourceInfo
+from sedreport.ingest.files import RawFile, decode_text
+from sedreport.ingest.streams import Loaded, ReadContext, check_in_time_order
+from sedreport.ingest.times import csv_source_info, parse_times, table_notes
+from sedreport.session import Dose
 
 #: mg per unit of mass. "ug", "µg" (micro sign) and "μg" (Greek mu) are spellings of mcg.
 MASS_MG = {"g": 1000.0, "mg": 1.0, "mcg": 1e-3, "ug": 1e-3, "\u00b5g": 1e-3, "\u03bcg": 1e-3}
@@ -58,14 +56,7 @@ def read_doses(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         decode_text(raw, ctx.session), where, ("time", "drug", "dose", "unit", "route")
     )
     times = parse_times(table, ctx.started, spec.clock_offset_s)
-    back = np.flatnonzero(np.diff(times.time_s) < 0)
-    if back.size:
-        row = int(back[0]) + 1
-        raise SessionError(
-            table.at(row),
-            f"time goes backwards ({times.time_s[row]:g} s after "
-            f"{times.time_s[row - 1]:g} s); doses must be in time order",
-        )
+    check_in_time_order(times.time_s, table.at, "doses")
     amount = column_numbers(table, "dose", "dose")
     drugs, units, routes = (column_text(table, c) for c in ("drug", "unit", "route"))
     doses = [
@@ -82,16 +73,14 @@ def read_doses(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         for i in range(len(table))
     ]
     findings, warnings = table_notes("doses", table, times, ctx.started)
-    info = SourceInfo(
-        role="doses",
-        file=raw.rel,
-        sha256=raw.sha256,
-        reader="csv.gz" if is_gzip(raw) else "csv",
-        rows=len(table),
-        clock_offset_s=spec.clock_offset_s,
+    info = csv_source_info(
+        "doses",
+        raw,
+        times,
+        spec.clock_offset_s,
+        len(table),
+        times.time_s,
         conversion=_conversion(doses, ctx.weight_kg),
-        time_style=times.style,
-        span_s=(float(times.time_s[0]), float(times.time_s[-1])),
     )
     return Loaded(tuple(doses), info, tuple(findings), tuple(warnings))
 

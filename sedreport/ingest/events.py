@@ -12,10 +12,10 @@ import numpy as np
 from sedreport.errors import SessionError
 from sedreport.ingest._yaml import SourceSpec
 from sedreport.ingest.csv_reader import column_numbers, column_text, read_csv_table
-from sedreport.ingest.files import RawFile, decode_text, is_gzip
-from sedreport.ingest.streams import Loaded, ReadContext
-from sedreport.ingest.times import parse_times, table_notes
-from sedreport.session import KNOWN_EVENTS, Event, SourceInfo
+from sedreport.ingest.files import RawFile, decode_text
+from sedreport.ingest.streams import Loaded, ReadContext, check_in_time_order
+from sedreport.ingest.times import csv_source_info, parse_times, table_notes
+from sedreport.session import KNOWN_EVENTS, Event
 
 #: Oxygen flow limits for ``oxygen_increase`` values, L/min (same as ``oxygen.flow_l_min``).
 FLOW_LIMITS_L_MIN = (0.0, 15.0)
@@ -28,14 +28,7 @@ def read_events(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         decode_text(raw, ctx.session), where, ("time", "event"), ("value", "note")
     )
     times = parse_times(table, ctx.started, spec.clock_offset_s)
-    back = np.flatnonzero(np.diff(times.time_s) < 0)
-    if back.size:
-        row = int(back[0]) + 1
-        raise SessionError(
-            table.at(row),
-            f"time goes backwards ({times.time_s[row]:g} s after "
-            f"{times.time_s[row - 1]:g} s); events must be in time order",
-        )
+    check_in_time_order(times.time_s, table.at, "events")
     names = column_text(table, "event")
     values = (
         column_numbers(table, "value", "event value", allow_blank=True)
@@ -55,16 +48,7 @@ def read_events(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         for i in range(len(table))
     ]
     findings, warnings = table_notes("events", table, times, ctx.started)
-    info = SourceInfo(
-        role="events",
-        file=raw.rel,
-        sha256=raw.sha256,
-        reader="csv.gz" if is_gzip(raw) else "csv",
-        rows=len(table),
-        clock_offset_s=spec.clock_offset_s,
-        time_style=times.style,
-        span_s=(float(times.time_s[0]), float(times.time_s[-1])),
-    )
+    info = csv_source_info("events", raw, times, spec.clock_offset_s, len(table), times.time_s)
     return Loaded(tuple(events), info, tuple(findings), tuple(warnings))
 
 

@@ -46,6 +46,28 @@ def check_increasing(time_s: np.ndarray, locate: Callable[[int], str]) -> None:
         raise SessionError(locate(row), what)
 
 
+def check_in_time_order(time_s: np.ndarray, locate: Callable[[int], str], what: str) -> None:
+    """Raise on the first time that goes backwards; equal times are allowed (log files).
+
+    Parameters
+    ----------
+    time_s : ndarray
+        Times in file order, seconds.
+    locate : callable
+        Maps a row index to ``<session>/<file>:<line>`` for the message.
+    what : str
+        Plural noun for the message (``doses``, ``events``).
+    """
+    back = np.flatnonzero(np.diff(time_s) < 0)
+    if back.size:
+        row = int(back[0]) + 1
+        raise SessionError(
+            locate(row),
+            f"time goes backwards ({time_s[row]:g} s after "
+            f"{time_s[row - 1]:g} s); {what} must be in time order",
+        )
+
+
 def check_range(
     values: np.ndarray,
     limits: tuple[float, float],

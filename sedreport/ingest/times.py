@@ -18,7 +18,8 @@ import pandas as pd
 
 from sedreport.errors import SessionError
 from sedreport.ingest.csv_reader import CsvTable
-from sedreport.session import QualityFinding
+from sedreport.ingest.files import RawFile, is_gzip
+from sedreport.session import QualityFinding, SourceInfo
 
 #: An ISO 8601 UTC offset at the end of a timestamp: Z, +hh, +hhmm or +hh:mm.
 _OFFSET = re.compile(r"\d(?:[zZ]|[+-]\d{2}(?::?\d{2})?)$")
@@ -176,3 +177,30 @@ def table_notes(
     if table.extra_columns:
         warnings.append(f"{role}: columns not used: {', '.join(map(repr, table.extra_columns))}")
     return findings, warnings
+
+
+def csv_source_info(
+    role: str,
+    raw: RawFile,
+    times: ParsedTimes,
+    clock_offset_s: float,
+    rows: int,
+    time_s: np.ndarray,
+    **fields,
+) -> SourceInfo:
+    """Provenance of one CSV / CSV.gz source: file, hash, reader, rows, clock and span.
+
+    ``time_s`` gives the span (the kept samples' times); ``fields`` are the role-specific
+    :class:`SourceInfo` fields (units, conversion, sample rate).
+    """
+    return SourceInfo(
+        role=role,
+        file=raw.rel,
+        sha256=raw.sha256,
+        reader="csv.gz" if is_gzip(raw) else "csv",
+        rows=rows,
+        clock_offset_s=clock_offset_s,
+        time_style=times.style,
+        span_s=(float(time_s[0]), float(time_s[-1])),
+        **fields,
+    )
