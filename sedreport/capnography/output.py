@@ -15,7 +15,7 @@ import math
 from collections import Counter
 from pathlib import Path
 
-from sedreport.capnography.breaths import breaths_to_frame, find_breaths
+from sedreport.capnography.breaths import CONTRACT_COLUMNS, breaths_to_frame, find_breaths
 from sedreport.capnography.model import BreathTable
 from sedreport.errors import SessionError
 
@@ -104,15 +104,7 @@ def breaths_table(breaths: BreathTable, session_id: str) -> str:
     """A readable fixed-width text table with a summary line and the caution."""
     frame = breaths_to_frame(breaths)
     heads = ["#", "start s", "end s", "EtCO2", "FiCO2", "RR /min", "PIII mmHg/s", "up s", "valid"]
-    cols = [
-        "start_s",
-        "end_s",
-        "etco2_mmHg",
-        "fico2_mmHg",
-        "rr_per_min",
-        "phase3_slope_mmHg_s",
-        "upstroke_s",
-    ]
+    cols = [*CONTRACT_COLUMNS[:-1], "upstroke_s"]  # the contract's numbers, then phase II
     rows = []
     for i, rec in enumerate(frame.to_dict("records"), start=1):
         cells = [str(i)] + [_cell(c, rec[c]) or "-" for c in cols]

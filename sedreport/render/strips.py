@@ -169,24 +169,16 @@ def _co2_strip(analysis: Analysis, p: Panel) -> Group:
     if analysis.session.co2 is None:
         g.add(label(p.x + 6, p.y + p.height / 2, "no CO2 waveform in this session", 7))
     else:
-        for shp in series_shapes(
-            p,
-            tr.breath_time_s,
-            tr.fico2_mmHg,
-            styles.FICO2,
-            max_gap_s=BREATH_GAP_S,
-            cols_per_pt=TREND_COLS_PER_PT,
-        ):
-            g.add(shp)
-        for shp in series_shapes(
-            p,
-            tr.breath_time_s,
-            tr.etco2_mmHg,
-            styles.ETCO2,
-            max_gap_s=BREATH_GAP_S,
-            cols_per_pt=TREND_COLS_PER_PT,
-        ):
-            g.add(shp)
+        for values, style in ((tr.fico2_mmHg, styles.FICO2), (tr.etco2_mmHg, styles.ETCO2)):
+            for shp in series_shapes(
+                p,
+                tr.breath_time_s,
+                values,
+                style,
+                max_gap_s=BREATH_GAP_S,
+                cols_per_pt=TREND_COLS_PER_PT,
+            ):
+                g.add(shp)
     g.add(frame_box(p))
     return g
 
