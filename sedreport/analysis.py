@@ -206,17 +206,14 @@ def format_episode_table(analysis: Analysis) -> str:
     return "\n".join(lines) + "\n"
 
 
-def episodes_output(session_path: str | Path, fmt: str, criteria: str | Path | None) -> str:
+def episodes_output(session: Session, fmt: str, criteria: Criteria | str | Path | None) -> str:
     """The text printed by ``sedreport episodes``: ``table``, ``csv`` or ``json``.
 
-    Loads and analyses the session folder; raises SedreportError on bad input before any
-    output is produced.
+    Analyses the session; raises SedreportError on bad criteria before any output is produced.
     """
     import json
 
-    from sedreport.ingest import load_session
-
-    analysis = analyse_session(load_session(session_path), criteria)
+    analysis = analyse_session(session, criteria)
     if fmt == "json":
         return json.dumps(episodes_to_dict(analysis), indent=2, allow_nan=False) + "\n"
     if fmt == "csv":

@@ -123,8 +123,9 @@ def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
     observation comes first; local sedation policy and licensed practice decide.
     """
     from sedreport.capnography.output import breaths_output
+    from sedreport.ingest import load_session
 
-    click.echo(breaths_output(session, fmt, criteria_path), nl=False)
+    click.echo(breaths_output(load_session(session), fmt, criteria_path), nl=False)
 
 
 @cli.command("episodes")
@@ -139,8 +140,9 @@ def episodes_command(session: str, fmt: str, criteria_path: str | None) -> None:
     observation comes first; local sedation policy and licensed practice decide.
     """
     from sedreport.analysis import episodes_output
+    from sedreport.ingest import load_session
 
-    click.echo(episodes_output(session, fmt, criteria_path), nl=False)
+    click.echo(episodes_output(load_session(session), fmt, criteria_path), nl=False)
 
 
 @cli.command("criteria")

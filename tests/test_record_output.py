@@ -198,8 +198,9 @@ def test_cli_record_on_demo_scenario_end_to_end(tmp_path):
     data = json.loads(js.read_text())
     # the same text as `sedreport episodes --format json`
     from sedreport.analysis import episodes_output
+    from sedreport.ingest import load_session
 
-    assert js.read_text() == episodes_output(folder, "json", None)
+    assert js.read_text() == episodes_output(load_session(folder), "json", None)
     texts = page_texts(out)
     all_text = norm(" ".join(texts))
     assert data["episodes"], "the apnoea scenario should give at least one episode"

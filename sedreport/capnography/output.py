@@ -13,11 +13,11 @@ import io
 import json
 import math
 from collections import Counter
-from pathlib import Path
 
 from sedreport.capnography.breaths import CONTRACT_COLUMNS, breaths_to_frame, find_breaths
 from sedreport.capnography.model import BreathTable
 from sedreport.errors import SessionError
+from sedreport.session import Session
 
 CAUTION = (
     "Breaths detected in recorded data, for documentation and review only: not an alarm and "
@@ -131,8 +131,8 @@ def _criteria_info(criteria_path: str | None) -> dict | None:
     return {"name": crit.name, "path": crit.path, "sha256": crit.sha256}
 
 
-def breaths_output(folder: str | Path, fmt: str = "table", criteria_path: str | None = None) -> str:
-    """Load a session folder, find its breaths and format them (``table``, ``csv``, ``json``).
+def breaths_output(session: Session, fmt: str = "table", criteria_path: str | None = None) -> str:
+    """Find a session's breaths and format them (``table``, ``csv``, ``json``).
 
     Breath detection itself uses no criteria; a ``criteria_path`` is loaded and checked (a
     malformed file is an error) and named in the JSON output, so that every command accepts
@@ -141,16 +141,13 @@ def breaths_output(folder: str | Path, fmt: str = "table", criteria_path: str | 
     Raises
     ------
     SessionError
-        When the session cannot be read or has no CO2 stream.
+        When the session has no CO2 stream.
     CriteriaError
         When the criteria file is malformed.
     """
     if fmt not in FORMATS:
         raise ValueError(f"unknown format {fmt!r}")
-    from sedreport.ingest import load_session
-
     criteria = _criteria_info(criteria_path)
-    session = load_session(folder)
     if session.co2 is None:
         raise SessionError(
             f"{session.session_id}/session.yaml:sources.co2",
