@@ -206,16 +206,21 @@ def format_episode_table(analysis: Analysis) -> str:
     return "\n".join(lines) + "\n"
 
 
+def episodes_json(analysis: Analysis) -> str:
+    """The ``sedreport episodes --format json`` object as text (NaN written as null)."""
+    import json
+
+    return json.dumps(episodes_to_dict(analysis), indent=2, allow_nan=False) + "\n"
+
+
 def episodes_output(session: Session, fmt: str, criteria: Criteria | str | Path | None) -> str:
     """The text printed by ``sedreport episodes``: ``table``, ``csv`` or ``json``.
 
     Analyses the session; raises SedreportError on bad criteria before any output is produced.
     """
-    import json
-
     analysis = analyse_session(session, criteria)
     if fmt == "json":
-        return json.dumps(episodes_to_dict(analysis), indent=2, allow_nan=False) + "\n"
+        return episodes_json(analysis)
     if fmt == "csv":
         return episodes_to_frame(analysis).to_csv(index=False, lineterminator="\n")
     return format_episode_table(analysis)

@@ -8,7 +8,6 @@ quality, caution notes, and sign-off and provenance on the last page. Every page
 
 from __future__ import annotations
 
-import json
 import os
 from contextlib import ExitStack
 from functools import partial
@@ -17,7 +16,7 @@ from pathlib import Path
 from reportlab.platypus import KeepTogether, Paragraph, Spacer
 
 from sedreport import __version__
-from sedreport.analysis import Analysis
+from sedreport.analysis import Analysis, episodes_json
 from sedreport.render import closeups, strips, styles
 from sedreport.render.atomic import atomic_output
 from sedreport.render.fmt import clock_text, duration_text, severity_text, words
@@ -157,13 +156,6 @@ def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | No
     return story
 
 
-def episodes_json_text(analysis: Analysis) -> str:
-    """The ``sedreport episodes --format json`` object as text (``episodes_to_dict``)."""
-    from sedreport.analysis import episodes_to_dict
-
-    return json.dumps(episodes_to_dict(analysis), indent=2, allow_nan=False) + "\n"
-
-
 def render_record(
     analysis: Analysis,
     path: str | os.PathLike[str],
@@ -198,7 +190,7 @@ def render_record(
     width_pt = styles.frame_width(paper)
     epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip() or None
     story = build_story(analysis, width_pt, epoch)
-    json_text = episodes_json_text(analysis) if json_path is not None else None
+    json_text = episodes_json(analysis) if json_path is not None else None
     sid = analysis.session.session_id
     target = Path(path)
     with atomic_output(target) as tmp, ExitStack() as extra:
