@@ -1,50 +1,32 @@
 """The Analysis of one session: the pipeline from Session to breaths, trends, episodes.
 
 :func:`analyse_session` runs breath detection, trends and baseline (``sedreport.capnography``),
-every episode detector and the linking (``sedreport.episodes``), and fills the JSON-ready
-``summary`` and ``quality``. :func:`episodes_to_dict` and :func:`episodes_to_frame` give the
-machine-readable outputs of DESIGN.md. The tool documents and reviews recorded data; it is not
-an alarm or a diagnosis.
+every episode detector and the linking (``sedreport.episodes``), and builds the typed
+:class:`~sedreport.episodes.summary.Summary` and :class:`~sedreport.episodes.summary.Quality`.
+Every output form of an Analysis (PDF, JSON, CSV, terminal text) lives in ``sedreport.render``.
+The tool documents and reviews recorded data; it is not an alarm or a diagnosis.
 """
 
 from __future__ import annotations
 
-import math
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 
 from sedreport.capnography import compute_trends, estimate_baseline, find_breaths
 from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import Criteria, load_criteria
 from sedreport.episodes.detect import detect_episodes
 from sedreport.episodes.model import Episode
-from sedreport.episodes.summary import summarise_quality, summarise_session
+from sedreport.episodes.summary import Quality, Summary, summarise_quality, summarise_session
+from sedreport.errors import SessionError
 from sedreport.session import Session
 
 #: Trailing window of the respiratory-rate trend, seconds (common practice: rate per minute).
 RR_WINDOW_S = 60.0
 #: Length of the pre-dose baseline window, seconds (common practice; a choice of this tool).
 BASELINE_WINDOW_S = 120.0
-#: Scalar episode fields of the csv output, in column order.
-EPISODE_SCALARS: tuple[str, ...] = (
-    "id",
-    "kind",
-    "subtype",
-    "start_s",
-    "end_s",
-    "duration_s",
-    "start_time",
-    "severity",
-    "peak_etco2_mmHg",
-    "min_spo2_pct",
-    "min_rr_per_min",
-    "time_to_first_intervention_s",
-    "time_to_resolution_s",
-    "capnographic_lead_s",
-)
 
 
 @dataclass(frozen=True)
@@ -60,17 +42,11 @@ class Analysis:
     baseline : Baseline
     episodes : tuple of Episode
         In order of onset, ids ``E1``...
-    summary : dict
-        JSON-ready: ``sedation_start_s``, ``sedation_end_s``, ``sedation_duration_s``,
-        ``co2_coverage_pct``, ``spo2_coverage_pct``, ``episodes_by_kind``,
-        ``episodes_by_severity``, ``longest_apnoea_s``, ``min_spo2_pct``,
-        ``time_below_90_s``, ``max_etco2_mmHg``, ``median_rr_per_min``, ``n_breaths``,
-        ``n_valid_breaths``, ``attention`` (list of plain sentences).
-    quality : dict
-        JSON-ready: ``sources`` (file, sha256, reader, rows, clock_offset_s, conversion...),
-        ``findings`` (ingest gaps etc.), ``warnings``, ``invalid_breaths``,
-        ``spo2_artefact_samples``, ``criteria`` (name, path, sha256); also ``baseline`` and
-        ``limitations`` (what could not be assessed and why).
+    summary : Summary
+        Key figures over the sedation window and the attention sentences.
+    quality : Quality
+        Sources with hashes, findings (gaps by the criteria's gap rule), warnings, invalid
+        breaths, SpO2 artefacts, criteria used, baseline, limitations.
     """
 
     session: Session
@@ -79,8 +55,8 @@ class Analysis:
     trends: Trends
     baseline: Baseline
     episodes: tuple[Episode, ...]
-    summary: dict
-    quality: dict
+    summary: Summary
+    quality: Quality
 
 
 def resolve_criteria(session: Session, criteria: Criteria | str | Path | None) -> Criteria:
@@ -94,6 +70,11 @@ def resolve_criteria(session: Session, criteria: Criteria | str | Path | None) -
         return load_criteria(criteria)
     if session.criteria_file:
         path = Path(session.criteria_file)
+        if not path.is_absolute() and session.folder is None:
+            raise SessionError(
+                f"{session.session_id}:criteria_file",
+                f"relative criteria path {str(path)!r} needs the session's folder",
+            )
         return load_criteria(path if path.is_absolute() else session.folder / path)
     return load_criteria(None)
 
@@ -117,110 +98,46 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
     Notes
     -----
     A session without CO2 or SpO2 still analyses; what could not be assessed is listed in
-    ``quality["limitations"]`` and ``summary["attention"]``.
+    ``quality.limitations`` and ``summary.attention``.
+
+    Examples
+    --------
+    >>> import sedreport
+    >>> session = sedreport.load_session(sedreport.EXAMPLES_DIR / "DEMO-UGI-02")
+    >>> analysis = sedreport.analyse_session(session)
+    >>> [e.kind for e in analysis.episodes][:2]
+    ['apnoea', 'desaturation']
+    >>> analysis.quality.co2_gap_s, analysis.criteria.name
+    (1.0, 'default')
     """
     crit = resolve_criteria(session, criteria)
-    breaths = find_breaths(session.co2) if session.co2 is not None else empty_breaths()
-    trends = compute_trends(session, breaths, rr_window_s=RR_WINDOW_S)
-    baseline = estimate_baseline(session, breaths, window_s=BASELINE_WINDOW_S)
+    gap_s = crit.signal_loss.co2_gap_s
+    co2 = session.co2
+    breaths = find_breaths(co2, gap_s=gap_s) if co2 is not None else empty_breaths()
+    trends = compute_trends(session, breaths, rr_window_s=RR_WINDOW_S, gap_s=gap_s)
+    baseline = estimate_baseline(session, breaths, window_s=BASELINE_WINDOW_S, gap_s=gap_s)
     episodes = detect_episodes(session, breaths, trends, baseline, crit)
     quality = summarise_quality(session, breaths, trends, baseline, crit)
     summary = summarise_session(session, breaths, trends, episodes, crit, quality)
     return Analysis(session, crit, breaths, trends, baseline, episodes, summary, quality)
 
 
-def _clean(x: object) -> object:
-    """NaN/inf to None, tuples to lists, numpy scalars to Python (valid JSON)."""
-    if isinstance(x, dict):
-        return {str(k): _clean(v) for k, v in x.items()}
-    if isinstance(x, list | tuple):
-        return [_clean(v) for v in x]
-    if isinstance(x, np.generic):
-        x = x.item()
-    if isinstance(x, float) and not math.isfinite(x):
-        return None
-    return x
+def breaths_of_session(
+    session: Session, criteria: Criteria | str | Path | None = None
+) -> tuple[BreathTable, Criteria]:
+    """The breaths of a session's capnogram under the criteria's gap rule, and the criteria.
 
-
-def episode_to_dict(episode: Episode) -> dict:
-    """One episode in the JSON contract (linked doses and interventions as objects)."""
-    return _clean(asdict(episode))
-
-
-def episodes_to_dict(analysis: Analysis) -> dict:
-    """The ``sedreport episodes --format json`` object of DESIGN.md (NaN as null)."""
-    s = analysis.session
-    return _clean(
-        {
-            "session_id": s.session_id,
-            "started": s.started.isoformat(),
-            "criteria": analysis.criteria.to_dict(),
-            "episodes": [episode_to_dict(e) for e in analysis.episodes],
-            "summary": analysis.summary,
-            "quality": analysis.quality,
-        }
-    )
-
-
-def episodes_to_frame(analysis: Analysis) -> pd.DataFrame:
-    """One row an episode with the scalar fields of :data:`EPISODE_SCALARS` plus counts."""
-    rows = []
-    for e in analysis.episodes:
-        row = {k: getattr(e, k) for k in EPISODE_SCALARS}
-        row["n_preceding_doses"] = len(e.preceding_doses)
-        row["n_interventions"] = len(e.interventions)
-        rows.append(row)
-    columns = [*EPISODE_SCALARS, "n_preceding_doses", "n_interventions"]
-    return pd.DataFrame(rows, columns=columns)
-
-
-CAUTION = (
-    "sedreport documents and reviews recorded data; it is not an alarm or a diagnosis. "
-    "Clinical observation comes first; local sedation policy and licensed practice decide."
-)
-
-
-def _fmt(x: object, spec: str = ".1f") -> str:
-    return "-" if x is None or (isinstance(x, float) and not math.isfinite(x)) else format(x, spec)
-
-
-def format_episode_table(analysis: Analysis) -> str:
-    """Plain-text table of the episodes with the criteria used and the caution."""
-    c = analysis.criteria
-    lines = [
-        f"session {analysis.session.session_id}  started {analysis.session.started.isoformat()}",
-        f"criteria {c.name} ({c.path}, sha256 {c.sha256[:12]})",
-        f"{'id':<4} {'kind':<16} {'subtype':<12} {'start':<26} {'start_s':>9} {'dur_s':>7} "
-        f"{'severity':<9} {'EtCO2max':>8} {'SpO2min':>7} {'RRmin':>6}",
-    ]
-    for e in analysis.episodes:
-        lines.append(
-            f"{e.id:<4} {e.kind:<16} {e.subtype or '-':<12} {e.start_time:<26} "
-            f"{e.start_s:>9.1f} {e.duration_s:>7.1f} {e.severity:<9} "
-            f"{_fmt(e.peak_etco2_mmHg):>8} {_fmt(e.min_spo2_pct):>7} {_fmt(e.min_rr_per_min):>6}"
-        )
-    if not analysis.episodes:
-        lines.append("(no episode met the criteria)")
-    lines.extend(f"attention: {a}" for a in analysis.summary["attention"])
-    lines.append(f"note: {CAUTION}")
-    return "\n".join(lines) + "\n"
-
-
-def episodes_json(analysis: Analysis) -> str:
-    """The ``sedreport episodes --format json`` object as text (NaN written as null)."""
-    import json
-
-    return json.dumps(episodes_to_dict(analysis), indent=2, allow_nan=False) + "\n"
-
-
-def episodes_output(session: Session, fmt: str, criteria: Criteria | str | Path | None) -> str:
-    """The text printed by ``sedreport episodes``: ``table``, ``csv`` or ``json``.
-
-    Analyses the session; raises SedreportError on bad criteria before any output is produced.
+    Raises
+    ------
+    SessionError
+        When the session has no CO2 stream.
+    CriteriaError
+        When the criteria file is malformed.
     """
-    analysis = analyse_session(session, criteria)
-    if fmt == "json":
-        return episodes_json(analysis)
-    if fmt == "csv":
-        return episodes_to_frame(analysis).to_csv(index=False, lineterminator="\n")
-    return format_episode_table(analysis)
+    crit = resolve_criteria(session, criteria)
+    if session.co2 is None:
+        raise SessionError(
+            f"{session.session_id}/session.yaml:sources.co2",
+            "no CO2 stream given, so there are no breaths to find",
+        )
+    return find_breaths(session.co2, gap_s=crit.signal_loss.co2_gap_s), crit

@@ -10,7 +10,7 @@ import sys
 
 import click
 
-from sedreport import __version__
+from sedreport._version import __version__
 from sedreport.errors import SedreportError
 
 #: Shared options, defined once.
@@ -50,25 +50,25 @@ def cli() -> None:
     show_default=True,
     help="Output format on stdout.",
 )
-def check_command(sessions: tuple[str, ...], fmt: str) -> None:
+@criteria_option
+def check_command(sessions: tuple[str, ...], fmt: str, criteria_path: str | None) -> None:
     """Load SESSION folders and show what was read: clock, streams, units, gaps, warnings.
 
     Exit 0 when every session loads; 2 when any fails (one `error:` line each on stderr,
-    the good ones still reported). This checks the recorded files only; it is not an alarm
+    the good ones still reported). Gaps follow the gap rule of the criteria file. This checks the recorded files only; it is not an alarm
     or a diagnosis, and says nothing about the patient's condition.
     """
-    import json
+    from sedreport.analysis import resolve_criteria
+    from sedreport.ingest.load import load_sessions
+    from sedreport.render.json_text import check_json, describe_session
+    from sedreport.render.terminal import check_report_text
 
-    from sedreport.ingest.report import CAUTION, check_sessions, format_text
-
-    good, errors = check_sessions(sessions)
+    good, errors = load_sessions(sessions)
+    described = [describe_session(s, resolve_criteria(s, criteria_path)) for s in good]
     if fmt == "json":
-        click.echo(json.dumps({"sessions": good, "errors": errors, "caution": CAUTION}, indent=2))
+        click.echo(check_json(described, errors), nl=False)
     else:
-        for desc in good:
-            click.echo(format_text(desc))
-        if good:
-            click.echo(f"note: {CAUTION}")
+        click.echo(check_report_text(described), nl=False)
     for line in errors:
         click.echo(f"error: {line}", err=True)
     if errors:
@@ -122,10 +122,13 @@ def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
     This documents and reviews recorded data; it is not an alarm or a diagnosis. Clinical
     observation comes first; local sedation policy and licensed practice decide.
     """
-    from sedreport.capnography.output import breaths_output
+    from sedreport.analysis import breaths_of_session
     from sedreport.ingest import load_session
+    from sedreport.render.stdout import breaths_text
 
-    click.echo(breaths_output(load_session(session), fmt, criteria_path), nl=False)
+    loaded = load_session(session)
+    breaths, criteria = breaths_of_session(loaded, criteria_path)
+    click.echo(breaths_text(breaths, loaded.session_id, criteria, fmt), nl=False)
 
 
 @cli.command("episodes")
@@ -139,10 +142,12 @@ def episodes_command(session: str, fmt: str, criteria_path: str | None) -> None:
     This documents and reviews recorded data; it is not an alarm or a diagnosis. Clinical
     observation comes first; local sedation policy and licensed practice decide.
     """
-    from sedreport.analysis import episodes_output
+    from sedreport.analysis import analyse_session
     from sedreport.ingest import load_session
+    from sedreport.render.stdout import episodes_text
 
-    click.echo(episodes_output(load_session(session), fmt, criteria_path), nl=False)
+    analysis = analyse_session(load_session(session), criteria_path)
+    click.echo(episodes_text(analysis, fmt), nl=False)
 
 
 @cli.command("criteria")
@@ -152,9 +157,10 @@ def criteria_command(file: str | None) -> None:
 
     Criteria document and review recorded data; they are not alarm settings.
     """
-    from sedreport.criteria import format_criteria, load_criteria
+    from sedreport.criteria import load_criteria
+    from sedreport.render.terminal import criteria_text
 
-    click.echo(format_criteria(load_criteria(file)), nl=False)
+    click.echo(criteria_text(load_criteria(file)), nl=False)
 
 
 @cli.command("demo")
@@ -195,7 +201,7 @@ def demo_command(
     The data is invented (no real patient) and is for trying and testing the tool only.
     sedreport documents and reviews recorded data; it is not an alarm or a diagnosis.
     """
-    from sedreport import demo
+    import sedreport.demo as demo
 
     if cohort is not None:
         if scenario != "all":

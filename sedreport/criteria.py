@@ -9,6 +9,7 @@ naming the file and the key. The detectors read every number from the returned
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import math
 from dataclasses import dataclass, fields
@@ -311,6 +312,18 @@ def load_criteria(path: str | Path | None = None) -> Criteria:
     )
 
 
+@functools.cache
+def default_criteria() -> Criteria:
+    """The shipped ``default.yaml``, loaded once per process (criteria are frozen).
+
+    Examples
+    --------
+    >>> default_criteria().signal_loss.co2_gap_s
+    1.0
+    """
+    return load_criteria(None)
+
+
 def _check_top(where: str, doc: dict) -> None:
     unknown = sorted(str(k) for k in doc if k not in _TOP_KEYS)
     if unknown:
@@ -371,28 +384,3 @@ def _read_entry(where: str, section: str, name: str, entry: object, spec: _Spec)
 def list_criteria_files() -> tuple[Path, ...]:
     """The criteria files shipped with the package, sorted by name."""
     return tuple(sorted(CRITERIA_DIR.glob("*.yaml")))
-
-
-def format_criteria(criteria: Criteria) -> str:
-    """Plain-text listing of a criteria file: every threshold with unit, source and note."""
-    lines = [
-        f"criteria {criteria.name}: {criteria.path}",
-        f"sha256 {criteria.sha256}",
-    ]
-    if criteria.description:
-        lines.append(criteria.description)
-    section = None
-    for c in criteria.items:
-        if c.section != section:
-            section = c.section
-            lines.append(f"\n[{section}]")
-        value = "off" if math.isnan(c.value) else f"{c.value:g} {c.unit}"
-        lines.append(f"  {c.name} = {value}")
-        lines.append(f"      source: {c.source}")
-        if c.note:
-            lines.append(f"      note: {c.note}")
-    lines.append(
-        "\nThese criteria document and review recorded data; they are not alarm settings. "
-        "Local sedation policy and licensed practice decide which criteria apply."
-    )
-    return "\n".join(lines) + "\n"

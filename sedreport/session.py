@@ -215,11 +215,25 @@ class QualityFinding:
 
 @dataclass(frozen=True)
 class Session:
-    """One sedation case, ready for analysis. Built by :func:`sedreport.ingest.load_session`."""
+    """One sedation case, ready for analysis. Built by :func:`sedreport.ingest.load_session`.
+
+    Only ``session_id`` and ``started`` are required, so a session can also be put together
+    from arrays (``folder`` is None then; a relative ``criteria_file`` needs a folder).
+
+    Examples
+    --------
+    >>> from datetime import datetime, timezone
+    >>> import numpy as np
+    >>> t = np.arange(0.0, 60.0, 0.04)
+    >>> co2 = Capnogram(t, np.where((t % 4.0) < 2.0, 38.0, 0.5), 25.0)
+    >>> s = Session("NB-1", datetime(2026, 3, 14, 9, 0, tzinfo=timezone.utc), co2=co2)
+    >>> s.span_s()
+    (0.0, 59.96)
+    """
 
     session_id: str
     started: datetime
-    folder: Path
+    folder: Path | None = None
     area: str = ""
     procedure: str = ""
     target_depth: str | None = None
@@ -252,12 +266,16 @@ class Session:
         return self.started + timedelta(seconds=float(t_s))
 
     def span_s(self) -> tuple[float, float]:
-        """Earliest and latest time of any stream, dose or event on the session clock."""
+        """Earliest and latest time of any stream, dose or event on the session clock, s."""
         starts, ends = [], []
         for src in self.sources:
             if src.span_s is not None:
                 starts.append(src.span_s[0])
                 ends.append(src.span_s[1])
+        for stream in (self.co2, self.spo2):
+            if stream is not None and stream.time_s.size:
+                starts.append(float(stream.time_s[0]))
+                ends.append(float(stream.time_s[-1]))
         times = [d.time_s for d in self.doses] + [e.time_s for e in self.events]
         if times:
             starts.append(min(times))

@@ -20,6 +20,7 @@ from sedreport.analysis import Analysis
 from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import Criteria, load_criteria
 from sedreport.episodes.model import Episode, LinkedDose, LinkedIntervention
+from sedreport.episodes.summary import CriteriaRef, Quality, Summary
 from sedreport.session import (
     Capnogram,
     Dose,
@@ -298,31 +299,28 @@ def make_analysis(
         findings,
         ("spo2.csv: 2 rows with SpO2 above 100 were dropped",),
     )
-    summary = {
-        "sedation_start_s": 240.0,
-        "sedation_end_s": 2300.0,
-        "sedation_duration_s": 2060.0,
-        "co2_coverage_pct": 99.8,
-        "spo2_coverage_pct": 100.0,
-        "episodes_by_kind": {"apnoea": 1, "desaturation": 1, "hypoventilation": 1},
-        "episodes_by_severity": {"none": 1, "minor": 2},
-        "longest_apnoea_s": APNOEA[1] - pause_start,
-        "min_spo2_pct": 86.0,
-        "time_below_90_s": 41.0,
-        "max_etco2_mmHg": 55.0,
-        "median_rr_per_min": 14.0,
-        "n_breaths": int(starts.size),
-        "n_valid_breaths": int(starts.size),
-        "attention": [
+    summary = Summary(
+        sedation_start_s=240.0,
+        sedation_end_s=2300.0,
+        sedation_duration_s=2060.0,
+        sedation_window="from the first dose to procedure_end",
+        co2_coverage_pct=99.8,
+        spo2_coverage_pct=100.0,
+        episodes_by_kind={"apnoea": 1, "desaturation": 1, "hypoventilation": 1},
+        episodes_by_severity={"none": 1, "minor": 2},
+        longest_apnoea_s=APNOEA[1] - pause_start,
+        min_spo2_pct=86.0,
+        spo2_threshold_pct=90.0,
+        time_below_spo2_threshold_s=41.0,
+        max_etco2_mmHg=55.0,
+        median_rr_per_min=14.0,
+        n_breaths=int(starts.size),
+        n_valid_breaths=int(starts.size),
+        attention=(
             f"Apnoea of {APNOEA[1] - pause_start:.0f} s at 09:32 needed airway repositioning.",
             "SpO2 fell to 86 % (41 s below 90 %) after the apnoea.",
-        ],
-    }
-    quality = {
-        "invalid_breaths": 0,
-        "spo2_artefact_samples": 0,
-        "criteria": {"name": "fixture-criteria"},
-    }
+        ),
+    )
     baseline = Baseline(
         38.0,
         14.0,
@@ -332,7 +330,21 @@ def make_analysis(
         "median of the valid breaths before the first dose (0 to 240 s)",
         55,
     )
-    return Analysis(session, criteria(), breaths, trends, baseline, eps, summary, quality)
+    crit = criteria()
+    quality = Quality(
+        sources=session.sources,
+        findings=session.findings,
+        warnings=session.warnings,
+        co2_gap_s=crit.signal_loss.co2_gap_s,
+        spo2_gap_s=crit.signal_loss.spo2_gap_s,
+        invalid_breaths=0,
+        invalid_by_reason={},
+        spo2_artefact_samples=0,
+        criteria=CriteriaRef(crit.name, crit.path, crit.sha256),
+        baseline=baseline,
+        limitations=(),
+    )
+    return Analysis(session, crit, breaths, trends, baseline, eps, summary, quality)
 
 
 def make_co2_only(duration_s: float = 1200.0, fs_hz: float = 25.0, seed: int = 7) -> Analysis:
@@ -358,18 +370,15 @@ def make_co2_only(duration_s: float = 1200.0, fs_hz: float = 25.0, seed: int = 7
         findings=(),
         warnings=(),
     )
-    summary = dict(
+    summary = replace(
         full.summary,
-        sedation_start_s=None,
-        sedation_end_s=None,
-        sedation_duration_s=None,
         spo2_coverage_pct=None,
         min_spo2_pct=None,
-        time_below_90_s=None,
+        time_below_spo2_threshold_s=None,
         episodes_by_kind={},
         episodes_by_severity={},
         longest_apnoea_s=None,
-        attention=[],
+        attention=(),
     )
     return replace(full, session=session, trends=trends, episodes=(), summary=summary)
 

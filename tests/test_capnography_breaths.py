@@ -250,7 +250,7 @@ def test_bad_arrays_raise_session_error():
 def test_settings_are_used():
     """A huge minimum amplitude turns every breath away: the setting is honoured."""
     cap, _ = make_trace(TraceSpec(duration_s=60.0))
-    assert len(find_breaths(cap, DetectionSettings(min_amplitude_mmHg=80.0))) == 0
+    assert len(find_breaths(cap, settings=DetectionSettings(min_amplitude_mmHg=80.0))) == 0
 
 
 def test_breaths_cut_by_a_gap_are_invalid_and_unrated():

@@ -22,7 +22,7 @@ from sedreport.episodes import (
     detect_obstruction,
     detect_rebreathing,
 )
-from sedreport.episodes._intervals import breath_runs, merge_intervals, touches_gap
+from sedreport.episodes._intervals import breath_runs, touches_gap
 
 TOL_S = 1e-9
 CRIT = load_criteria()
@@ -83,12 +83,6 @@ def regular(t0, t1, period):
 
 
 # ----- interval helpers -------------------------------------------------------------------------
-def test_merge_intervals_joins_overlapping_and_touching():
-    s, e = merge_intervals(np.array([5.0, 0.0, 2.0, 10.0]), np.array([6.0, 2.0, 3.0, 11.0]))
-    assert s.tolist() == [0.0, 5.0, 10.0]
-    assert e.tolist() == [3.0, 6.0, 11.0]
-
-
 def test_touches_gap_is_closed_interval():
     gs, ge = np.array([10.0]), np.array([12.0])
     hit = touches_gap(np.array([0.0, 12.0, 12.1, 5.0]), np.array([10.0, 13.0, 14.0, 9.9]), gs, ge)
@@ -361,15 +355,6 @@ def test_signal_loss_from_last_sample_before_to_first_after():
     assert [(f.kind, f.subtype) for f in found] == [("signal_loss", "co2")]
     assert found[0].start_s == pytest.approx(100.0, abs=1e-6)
     assert found[0].end_s == pytest.approx(130.0, abs=1e-6)
-
-
-def test_signal_loss_from_ingest_flat_line_finding():
-    from sedreport.episodes import detect_signal_loss
-    from sedreport.session import QualityFinding
-
-    flat = QualityFinding("flat_line", "co2", "flat", start_s=160.0, end_s=175.0)
-    found = detect_signal_loss(gap_session((flat,)), CRIT)
-    assert [(f.start_s, f.end_s) for f in found][1] == (160.0, 175.0)
 
 
 def test_obstruction_onset_dated_by_the_breaths_own_values():

@@ -19,12 +19,13 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from sedreport.analysis import analyse_session, episodes_to_dict
+from sedreport.analysis import analyse_session
 from sedreport.criteria import load_criteria
 from sedreport.demo import SCENARIOS, load_truth, write_scenario
 from sedreport.episodes import lean_body_weight_kg
 from sedreport.episodes.scoring import match_episodes
 from sedreport.ingest import load_session
+from sedreport.render.json_text import episodes_to_dict
 from sedreport.session import Capnogram
 
 ONSET_TOL_S = 3.0
@@ -65,7 +66,7 @@ def test_every_planted_episode_found_and_nothing_else(demo, name):
 def test_quiet_scenario_has_no_episode(demo):
     _, _, analysis = demo["quiet_colonoscopy"]
     assert analysis.episodes == ()
-    assert analysis.summary["episodes_by_kind"]["apnoea"] == 0
+    assert analysis.summary.episodes_by_kind["apnoea"] == 0
 
 
 def test_hypoventilation_subtype_matches_planted(demo):
@@ -126,7 +127,7 @@ def test_session_without_co2_still_analyses(demo):
     analysis = analyse_session(session)
     assert len(analysis.breaths) == 0
     assert [e.kind for e in analysis.episodes] == ["desaturation"]
-    assert any("No CO2 stream" in x for x in analysis.quality["limitations"])
+    assert any("No CO2 stream" in x for x in analysis.quality.limitations)
 
 
 def run_cli(*args):

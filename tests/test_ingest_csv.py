@@ -12,8 +12,16 @@ import numpy as np
 import pytest
 from test_ingest_support import co2_csv, make_session, spo2_csv
 
+from sedreport.criteria import default_criteria
+from sedreport.episodes.summary import stream_gap_findings
 from sedreport.errors import SessionError
 from sedreport.ingest import load_session
+
+
+def _gaps(session):
+    """Gaps of a loaded session by the default criteria's gap rule (CO2 1 s, SpO2 10 s)."""
+    return stream_gap_findings(session, default_criteria())
+
 
 CO2_HEAD = "time,co2\n0,1\n0.04,2\n0.08,3\n"
 
@@ -118,7 +126,7 @@ def test_blank_co2_cell_drops_row_counted(tmp_path):
     assert s.co2.time_s.tolist() == [0.0, 1.0, 2.5]
     msgs = [f.message for f in s.findings if f.kind == "dropped"]
     assert msgs == ["co2: 1 rows with a blank CO2 cell dropped (first at line 3)"]
-    gaps = [(f.start_s, f.end_s) for f in s.findings if f.kind == "gap" and f.source == "co2"]
+    gaps = [(f.start_s, f.end_s) for f in _gaps(s) if f.source == "co2"]
     assert gaps == [(1.0, 2.5)]  # step 1.5 s > 1 s; the 1.0 s step is not a gap
 
 
@@ -169,7 +177,7 @@ def test_gaps_and_rates(tmp_path):
     co2 = "time,co2\n" + "".join(f"{x:.2f},30\n" for x in t)
     spo2 = "time,spo2\n" + "".join(f"{x},97\n" for x in [0, 1, 2, 3, 4, 5, 20, 21, 22])
     s = load_session(make_session(tmp_path, files={"co2.csv": co2, "spo2.csv": spo2}))
-    gaps = [(f.source, f.start_s, f.end_s) for f in s.findings if f.kind == "gap"]
+    gaps = [(f.source, f.start_s, f.end_s) for f in _gaps(s)]
     assert gaps == [("co2", pytest.approx(9.96), pytest.approx(13.0)), ("spo2", 5.0, 20.0)]
     assert s.co2.sample_rate_hz == pytest.approx(25.0)
     assert s.source("co2").span_s == (0.0, pytest.approx(29.96))

@@ -14,12 +14,14 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from sedreport.analysis import Analysis, episodes_to_dict, episodes_to_frame
+from sedreport.analysis import Analysis
 from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import load_criteria
 from sedreport.episodes import detect_episodes, grade_episode, lean_body_weight_kg, link_doses
 from sedreport.episodes.model import LinkedIntervention
 from sedreport.episodes.summary import summarise_quality, summarise_session
+from sedreport.render.csv_text import episodes_to_frame
+from sedreport.render.json_text import episodes_to_dict
 from sedreport.session import Capnogram, Dose, Event, OximetryTrend, Patient, Session
 
 CRIT = load_criteria()
@@ -188,7 +190,7 @@ CONTRACT_EPISODE = {
 SUMMARY_KEYS = {
     "sedation_start_s", "sedation_end_s", "sedation_duration_s", "co2_coverage_pct",
     "spo2_coverage_pct", "episodes_by_kind", "episodes_by_severity", "longest_apnoea_s",
-    "min_spo2_pct", "time_below_90_s", "max_etco2_mmHg", "median_rr_per_min", "n_breaths",
+    "min_spo2_pct", "spo2_threshold_pct", "time_below_spo2_threshold_s", "max_etco2_mmHg", "median_rr_per_min", "n_breaths",
     "n_valid_breaths", "attention",
 }  # fmt: skip
 QUALITY_KEYS = {
@@ -211,13 +213,15 @@ def test_json_contract_keys_and_valid_json():
 
 def test_summary_numbers_on_planted_session():
     a = analysis_of(*planted_session())
-    s = a.summary
+    s = a.summary.to_dict()
     # sedation from the first dose (0 s) to procedure_end (590 s)
     assert (s["sedation_start_s"], s["sedation_end_s"]) == (0.0, 590.0)
     assert s["co2_coverage_pct"] == pytest.approx(100.0)
     assert s["spo2_coverage_pct"] == pytest.approx(100.0)
     # 45 samples at 85 %, each held for 1 s
-    assert s["time_below_90_s"] == pytest.approx(45.0)
+    assert (
+        s["time_below_spo2_threshold_s"] == pytest.approx(45.0) and s["spo2_threshold_pct"] == 90.0
+    )
     assert s["longest_apnoea_s"] == pytest.approx(240.0 - 198.4)
     assert s["episodes_by_kind"]["apnoea"] == 1
     assert s["min_spo2_pct"] == 85.0
@@ -237,8 +241,8 @@ def test_session_without_spo2_still_analyses():
     trends = Trends(z, z, z, z, z, z, z, z, np.empty(0, bool), 60.0)
     a = analysis_of(s2, breaths, trends, baseline)
     assert [e.kind for e in a.episodes] == ["apnoea"]
-    assert a.summary["min_spo2_pct"] is None
-    assert any("No SpO2 stream" in x for x in a.quality["limitations"])
+    assert a.summary.min_spo2_pct is None
+    assert any("No SpO2 stream" in x for x in a.quality.limitations)
     json.dumps(episodes_to_dict(a), allow_nan=False)
 
 

@@ -16,7 +16,7 @@ from record_pdf import norm, page_texts, table_cells
 
 from sedreport import __version__
 from sedreport.criteria import DEFAULT_CRITERIA_FILE
-from sedreport.render.provenance import CAUTIONS_FILE
+from sedreport.render.cautions import CAUTIONS_FILE
 from sedreport.render.record import render_record
 
 
@@ -70,7 +70,7 @@ def test_summary_and_attention(analysis, texts):
     assert "34 min 20 s (09:16 to 09:50)" in first
     assert "Lowest SpO2 86 %" in first
     assert "Highest EtCO2 55 mmHg" in first
-    for sentence in analysis.summary["attention"]:
+    for sentence in analysis.summary.attention:
         assert norm(sentence) in first
 
 

@@ -197,10 +197,11 @@ def test_cli_record_on_demo_scenario_end_to_end(tmp_path):
     assert proc.returncode == 0, proc.stderr
     data = json.loads(js.read_text())
     # the same text as `sedreport episodes --format json`
-    from sedreport.analysis import episodes_output
+    from sedreport.analysis import analyse_session
     from sedreport.ingest import load_session
+    from sedreport.render.json_text import episodes_json
 
-    assert js.read_text() == episodes_output(load_session(folder), "json", None)
+    assert js.read_text() == episodes_json(analyse_session(load_session(folder)))
     texts = page_texts(out)
     all_text = norm(" ".join(texts))
     assert data["episodes"], "the apnoea scenario should give at least one episode"

@@ -6,13 +6,8 @@ The stage documents and reviews recorded data; it is not an alarm.
 """
 
 from sedreport.capnography.baseline import estimate_baseline
-from sedreport.capnography.breaths import (
-    CONTRACT_COLUMNS,
-    DEFAULT_SETTINGS,
-    DetectionSettings,
-    breaths_to_frame,
-    find_breaths,
-)
+from sedreport.capnography.breaths import CONTRACT_COLUMNS, breaths_to_frame, find_breaths
+from sedreport.capnography.cycles import DEFAULT_SETTINGS, DetectionSettings
 from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.capnography.trends import compute_trends
 

@@ -8,8 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from sedreport.capnography.breaths import split_segments
+from sedreport.capnography.cycles import split_segments
 from sedreport.capnography.model import Baseline, BreathTable
+from sedreport.criteria import default_criteria
 from sedreport.session import Session
 
 #: Less pre-dose CO2 recording than this (seconds) is not enough for a baseline.
@@ -26,13 +27,13 @@ def _median(values: np.ndarray) -> float:
     return float(np.median(v)) if v.size else float("nan")
 
 
-def _co2_seconds(session: Session, lo_s: float, hi_s: float) -> float:
+def _co2_seconds(session: Session, lo_s: float, hi_s: float, gap_s: float) -> float:
     """Seconds of gap-free CO2 recording inside ``[lo_s, hi_s]``."""
     if session.co2 is None or session.co2.time_s.size == 0:
         return 0.0
     t = np.asarray(session.co2.time_s, dtype=float)
     total = 0.0
-    for a, b in split_segments(t, np.asarray(session.co2.co2_mmHg, dtype=float)):
+    for a, b in split_segments(t, np.asarray(session.co2.co2_mmHg, dtype=float), gap_s):
         total += max(0.0, min(hi_s, t[b - 1]) - max(lo_s, t[a]))
     return total
 
@@ -69,7 +70,13 @@ def _first_valid_window(b: BreathTable, length_s: float, why: str) -> Baseline:
     return _summarise(b, sel, (lo, hi), f"{method} ({lo:.1f}-{hi:.1f} s)")
 
 
-def estimate_baseline(session: Session, breaths: BreathTable, window_s: float = 120.0) -> Baseline:
+def estimate_baseline(
+    session: Session,
+    breaths: BreathTable,
+    window_s: float = 120.0,
+    *,
+    gap_s: float | None = None,
+) -> Baseline:
     """The patient's own values before the first dose of any drug.
 
     Parameters
@@ -80,6 +87,9 @@ def estimate_baseline(session: Session, breaths: BreathTable, window_s: float = 
         From :func:`sedreport.capnography.find_breaths`.
     window_s : float
         Length of the pre-dose window, seconds.
+    gap_s : float, optional
+        Longest CO2 sample step that is not a gap, seconds (the active criteria's
+        ``signal_loss.co2_gap_s``); None takes the shipped default criteria's.
 
     Returns
     -------
@@ -99,7 +109,9 @@ def estimate_baseline(session: Session, breaths: BreathTable, window_s: float = 
     lo, hi = t_dose - window_s, t_dose
     valid = np.asarray(breaths.valid, dtype=bool)
     sel = valid & (breaths.start_s >= lo) & (breaths.end_s <= hi)
-    covered = _co2_seconds(session, lo, hi)
+    if gap_s is None:
+        gap_s = default_criteria().signal_loss.co2_gap_s
+    covered = _co2_seconds(session, lo, hi, gap_s)
     if covered < MIN_PREDOSE_S or sel.sum() < MIN_BREATHS:
         why = (
             f"only {covered:.0f} s of CO2 and {int(sel.sum())} valid breaths before the first"

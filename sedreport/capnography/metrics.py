@@ -38,7 +38,7 @@ from sedreport.capnography._ranges import (
     last_where,
     range_reduce,
 )
-from sedreport.capnography.breaths import Cycles, DetectionSettings
+from sedreport.capnography.cycles import Cycles, DetectionSettings
 from sedreport.capnography.model import BreathTable
 from sedreport.session import Capnogram
 

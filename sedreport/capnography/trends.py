@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from sedreport.capnography.breaths import split_segments
+from sedreport.capnography.cycles import split_segments
 from sedreport.capnography.model import BreathTable, Trends
+from sedreport.criteria import default_criteria
 from sedreport.oximetry import clean_oximetry
 from sedreport.session import Session
 
@@ -87,7 +88,13 @@ def counted_breaths(breaths: BreathTable) -> np.ndarray:
     ).reshape(-1)
 
 
-def compute_trends(session: Session, breaths: BreathTable, rr_window_s: float = 60.0) -> Trends:
+def compute_trends(
+    session: Session,
+    breaths: BreathTable,
+    rr_window_s: float = 60.0,
+    *,
+    gap_s: float | None = None,
+) -> Trends:
     """EtCO2, FiCO2 and rate trends from the breaths, plus the cleaned SpO2/pulse trend.
 
     Parameters
@@ -99,6 +106,9 @@ def compute_trends(session: Session, breaths: BreathTable, rr_window_s: float = 
         From :func:`sedreport.capnography.find_breaths` on ``session.co2``.
     rr_window_s : float
         Trailing window of the rate trend, seconds.
+    gap_s : float, optional
+        Longest CO2 sample step that is not a gap, seconds (the active criteria's
+        ``signal_loss.co2_gap_s``); None takes the shipped default criteria's.
 
     Returns
     -------
@@ -110,7 +120,9 @@ def compute_trends(session: Session, breaths: BreathTable, rr_window_s: float = 
     grid = rr = np.empty(0)
     if session.co2 is not None and session.co2.time_s.size:
         t = np.asarray(session.co2.time_s, dtype=float)
-        segs = split_segments(t, np.asarray(session.co2.co2_mmHg, dtype=float))
+        if gap_s is None:
+            gap_s = default_criteria().signal_loss.co2_gap_s
+        segs = split_segments(t, np.asarray(session.co2.co2_mmHg, dtype=float), gap_s)
         seg_start = np.array([t[a] for a, _ in segs])
         seg_end = np.array([t[b - 1] for _, b in segs])
         starts = np.sort(np.asarray(breaths.start_s, dtype=float)[counted_breaths(breaths)])

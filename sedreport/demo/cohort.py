@@ -27,6 +27,7 @@ from sedreport.demo.case import (
     Rebreathing,
     Spo2Artefact,
 )
+from sedreport.demo.examples import case_rng, simulate_and_write
 from sedreport.demo.oximetry import OxygenParams
 from sedreport.demo.pharmacology import peak_effect_s
 from sedreport.errors import SedreportError
@@ -201,8 +202,6 @@ def _make(kind: str, start: float, length: float, rng):
 
 def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
     """The ``index``-th case of a cohort (deterministic in ``seed`` and ``index``)."""
-    from sedreport.demo import case_rng
-
     rng = case_rng(seed, f"cohort-{index}")
     area = _pick(rng, {k: v["weight"] for k, v in recipe["areas"].items()})
     a = recipe["areas"][area]
@@ -278,8 +277,6 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
 
 
 def _write_one(args: tuple) -> str:
-    from sedreport.demo import simulate_and_write
-
     outdir, recipe, index, seed = args
     return str(simulate_and_write(outdir, draw_case(recipe, index, seed), seed, compresslevel=1))
 

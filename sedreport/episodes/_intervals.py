@@ -1,4 +1,4 @@
-"""Private interval helpers shared by the detectors: gaps, runs of qualifying breaths."""
+"""Private interval helpers shared by the detectors: gap contact, runs of qualifying breaths."""
 
 from __future__ import annotations
 
@@ -20,36 +20,6 @@ class Finding:
     end_s: float
     notes: tuple[str, ...] = ()
     resolved: bool = True
-
-
-def find_gaps(time_s: np.ndarray, max_step_s: float) -> tuple[np.ndarray, np.ndarray]:
-    """Sample steps longer than ``max_step_s``.
-
-    Returns
-    -------
-    starts, ends : ndarray
-        Time of the last sample before each gap and of the first sample after it (s).
-    """
-    t = np.asarray(time_s, dtype=float)
-    if t.size < 2:
-        return np.empty(0), np.empty(0)
-    big = np.flatnonzero(np.diff(t) > max_step_s)
-    return t[big], t[big + 1]
-
-
-def merge_intervals(starts: np.ndarray, ends: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Sort and merge overlapping or touching intervals (seconds)."""
-    s = np.asarray(starts, dtype=float)
-    e = np.asarray(ends, dtype=float)
-    if s.size == 0:
-        return np.empty(0), np.empty(0)
-    order = np.argsort(s, kind="stable")
-    s, e = s[order], e[order]
-    reach = np.maximum.accumulate(e)
-    new = np.r_[True, s[1:] > reach[:-1]]
-    first = np.flatnonzero(new)
-    last = np.r_[first[1:] - 1, s.size - 1]
-    return s[first], reach[last]
 
 
 def touches_gap(

@@ -1,9 +1,15 @@
-"""Session summary and data-quality dictionaries of an Analysis (JSON-ready)."""
+"""Session summary and data quality of an Analysis, as typed frozen dataclasses.
+
+:class:`Summary` and :class:`Quality` are what the renderers read (a renamed field fails at
+once instead of printing a dash); ``to_dict()`` gives the JSON objects of the episodes
+contract (DESIGN.md). Names carry no hard-coded threshold: the threshold a figure was
+counted against is a field beside it.
+"""
 
 from __future__ import annotations
 
 from collections import Counter
-from dataclasses import asdict
+from dataclasses import asdict, dataclass
 
 import numpy as np
 
@@ -12,7 +18,132 @@ from sedreport.criteria import Criteria
 from sedreport.episodes.linking import usable_spo2
 from sedreport.episodes.model import EPISODE_KINDS, SEVERITY_TIERS, Episode
 from sedreport.episodes.severity import tier_rank
-from sedreport.session import Session
+from sedreport.gaps import covered_s, gap_findings
+from sedreport.session import QualityFinding, Session, SourceInfo
+
+
+@dataclass(frozen=True)
+class Summary:
+    """Key figures of one session over its sedation window.
+
+    Attributes
+    ----------
+    sedation_start_s, sedation_end_s, sedation_duration_s : float
+        The sedation window on the session clock, seconds.
+    sedation_window : str
+        How the window was chosen (a sentence).
+    co2_coverage_pct, spo2_coverage_pct : float or None
+        Share of the window covered by gap-free samples (the criteria's gap rule), percent.
+    episodes_by_kind, episodes_by_severity : dict of str to int
+        Episode counts per kind (every kind of the contract) and per severity tier.
+    longest_apnoea_s : float or None
+        None when no CO2 breath could be assessed.
+    min_spo2_pct : float or None
+        Lowest artefact-cleaned SpO2 in the recording.
+    spo2_threshold_pct : float
+        The desaturation threshold of the criteria, percent.
+    time_below_spo2_threshold_s : float or None
+        Seconds with SpO2 below ``spo2_threshold_pct`` (gaps not counted).
+    max_etco2_mmHg, median_rr_per_min : float or None
+        Over valid breaths.
+    n_breaths, n_valid_breaths : int
+    attention : tuple of str
+        Plain sentences for the reviewer's attention.
+    """
+
+    sedation_start_s: float
+    sedation_end_s: float
+    sedation_duration_s: float
+    sedation_window: str
+    co2_coverage_pct: float | None
+    spo2_coverage_pct: float | None
+    episodes_by_kind: dict[str, int]
+    episodes_by_severity: dict[str, int]
+    longest_apnoea_s: float | None
+    min_spo2_pct: float | None
+    spo2_threshold_pct: float
+    time_below_spo2_threshold_s: float | None
+    max_etco2_mmHg: float | None
+    median_rr_per_min: float | None
+    n_breaths: int
+    n_valid_breaths: int
+    attention: tuple[str, ...]
+
+    def to_dict(self) -> dict:
+        """The ``summary`` object of the episodes JSON (field names as keys)."""
+        out = asdict(self)
+        out["attention"] = list(self.attention)
+        return out
+
+
+@dataclass(frozen=True)
+class CriteriaRef:
+    """Which criteria file an analysis used: name, path as shown, SHA-256."""
+
+    name: str
+    path: str
+    sha256: str
+
+
+@dataclass(frozen=True)
+class Quality:
+    """What the record must say about the data it was made from.
+
+    Attributes
+    ----------
+    sources : tuple of SourceInfo
+        Every input file with its SHA-256, reader, rows, offset and conversion.
+    findings : tuple of QualityFinding
+        Ingest findings (missing streams, streams that do not overlap...) and the gaps of
+        every stream by the criteria's gap rule, in that order.
+    warnings : tuple of str
+        Ingest warnings (rows dropped and why, naive timestamps...).
+    co2_gap_s, spo2_gap_s : float
+        The gap rule applied: longest sample step that is not a gap, seconds.
+    invalid_breaths : int
+        Breaths unusable for trends; ``invalid_by_reason`` counts them per reason.
+    invalid_by_reason : dict of str to int
+    spo2_artefact_samples : int
+        SpO2 samples marked as artefact.
+    criteria : CriteriaRef
+    baseline : Baseline
+    limitations : tuple of str
+        What could not be assessed and why.
+    """
+
+    sources: tuple[SourceInfo, ...]
+    findings: tuple[QualityFinding, ...]
+    warnings: tuple[str, ...]
+    co2_gap_s: float
+    spo2_gap_s: float
+    invalid_breaths: int
+    invalid_by_reason: dict[str, int]
+    spo2_artefact_samples: int
+    criteria: CriteriaRef
+    baseline: Baseline
+    limitations: tuple[str, ...]
+
+    @property
+    def gaps(self) -> tuple[QualityFinding, ...]:
+        """The gap findings alone."""
+        return tuple(f for f in self.findings if f.kind == "gap")
+
+    def to_dict(self) -> dict:
+        """The ``quality`` object of the episodes JSON."""
+        return {
+            "sources": [asdict(s) for s in self.sources],
+            "findings": [asdict(f) for f in self.findings],
+            "warnings": list(self.warnings),
+            "gap_rule": {"co2_gap_s": self.co2_gap_s, "spo2_gap_s": self.spo2_gap_s},
+            "invalid_breaths": {
+                "count": self.invalid_breaths,
+                "by_reason": dict(self.invalid_by_reason),
+            },
+            "spo2_artefact_samples": self.spo2_artefact_samples,
+            "criteria": asdict(self.criteria),
+            "baseline": asdict(self.baseline),
+            "limitations": list(self.limitations),
+        }
 
 
 def sedation_window_s(session: Session) -> tuple[float, float, str]:
@@ -29,17 +160,6 @@ def sedation_window_s(session: Session) -> tuple[float, float, str]:
     end = max(ends) if ends else last
     how += " to procedure_end" if ends else " to the last data"
     return float(start), float(max(end, start)), how
-
-
-def covered_s(time_s: np.ndarray, max_step_s: float, lo: float, hi: float) -> float:
-    """Seconds of [lo, hi] covered by sample steps no longer than ``max_step_s``."""
-    t = np.asarray(time_s, dtype=float)
-    if t.size < 2 or hi <= lo:
-        return 0.0
-    a = np.clip(t[:-1], lo, hi)
-    b = np.clip(t[1:], lo, hi)
-    ok = np.diff(t) <= max_step_s
-    return float(np.sum((b - a)[ok]))
 
 
 def time_below_s(t: np.ndarray, v: np.ndarray, threshold: float, max_step_s: float) -> float:
@@ -67,9 +187,9 @@ def summarise_session(
     trends: Trends,
     episodes: tuple[Episode, ...],
     criteria: Criteria,
-    quality: dict,
-) -> dict:
-    """The ``summary`` dictionary of an Analysis (keys in its docstring)."""
+    quality: Quality,
+) -> Summary:
+    """The :class:`Summary` of an Analysis."""
     lo, hi, how = sedation_window_s(session)
     span = hi - lo
     gap = criteria.signal_loss
@@ -77,31 +197,31 @@ def summarise_session(
     spo2_t, spo2_v = usable_spo2(trends)
     valid = np.asarray(breaths.valid, dtype=bool)
     apnoeas = [e.duration_s for e in episodes if e.kind == "apnoea"]
-    return {
-        "sedation_start_s": lo,
-        "sedation_end_s": hi,
-        "sedation_duration_s": span,
-        "sedation_window": how,
-        "co2_coverage_pct": _pct(co2_cov, span),
-        "spo2_coverage_pct": _pct(covered_s(spo2_t, gap.spo2_gap_s, lo, hi), span),
-        "episodes_by_kind": {k: sum(e.kind == k for e in episodes) for k in EPISODE_KINDS},
-        "episodes_by_severity": {t: sum(e.severity == t for e in episodes) for t in SEVERITY_TIERS},
-        "longest_apnoea_s": max(apnoeas) if apnoeas else (0.0 if len(breaths) else None),
-        "min_spo2_pct": _finite_or_none(spo2_v, np.min),
-        "time_below_90_s": time_below_s(
-            spo2_t, spo2_v, criteria.desaturation.spo2_below_pct, gap.spo2_gap_s
-        )
-        if spo2_t.size
-        else None,
-        "max_etco2_mmHg": _finite_or_none(breaths.etco2_mmHg[valid], np.max),
-        "median_rr_per_min": _finite_or_none(breaths.rr_per_min[valid], np.median),
-        "n_breaths": len(breaths),
-        "n_valid_breaths": int(valid.sum()),
-        "attention": _attention(session, episodes, quality),
-    }
+    threshold = criteria.desaturation.spo2_below_pct
+    return Summary(
+        sedation_start_s=lo,
+        sedation_end_s=hi,
+        sedation_duration_s=span,
+        sedation_window=how,
+        co2_coverage_pct=_pct(co2_cov, span),
+        spo2_coverage_pct=_pct(covered_s(spo2_t, gap.spo2_gap_s, lo, hi), span),
+        episodes_by_kind={k: sum(e.kind == k for e in episodes) for k in EPISODE_KINDS},
+        episodes_by_severity={t: sum(e.severity == t for e in episodes) for t in SEVERITY_TIERS},
+        longest_apnoea_s=max(apnoeas) if apnoeas else (0.0 if len(breaths) else None),
+        min_spo2_pct=_finite_or_none(spo2_v, np.min),
+        spo2_threshold_pct=float(threshold),
+        time_below_spo2_threshold_s=(
+            time_below_s(spo2_t, spo2_v, threshold, gap.spo2_gap_s) if spo2_t.size else None
+        ),
+        max_etco2_mmHg=_finite_or_none(breaths.etco2_mmHg[valid], np.max),
+        median_rr_per_min=_finite_or_none(breaths.rr_per_min[valid], np.median),
+        n_breaths=len(breaths),
+        n_valid_breaths=int(valid.sum()),
+        attention=tuple(_attention(session, episodes, quality)),
+    )
 
 
-def _attention(session: Session, episodes: tuple[Episode, ...], quality: dict) -> list[str]:
+def _attention(session: Session, episodes: tuple[Episode, ...], quality: Quality) -> list[str]:
     out = []
     for e in episodes:
         if tier_rank(e.severity) >= tier_rank("moderate"):
@@ -109,7 +229,7 @@ def _attention(session: Session, episodes: tuple[Episode, ...], quality: dict) -
                 f"{e.id} {e.kind} at {session.clock_time(e.start_s):%H:%M:%S} "
                 f"({_duration_text(e.duration_s)}) graded {e.severity}."
             )
-    out.extend(quality["limitations"])
+    out.extend(quality.limitations)
     if not session.doses:
         out.append("No doses recorded: the sedation window is the span of the data.")
     return out
@@ -141,27 +261,41 @@ def _limitations(session: Session, breaths: BreathTable, baseline: Baseline) -> 
     return out
 
 
+def stream_gap_findings(session: Session, criteria: Criteria) -> list[QualityFinding]:
+    """Gap findings of the CO2 and SpO2 streams by the criteria's gap rule.
+
+    SpO2 samples without a reading (NaN) are not samples.
+    """
+    rule = criteria.signal_loss
+    out = []
+    if session.co2 is not None:
+        out.extend(gap_findings(session.co2.time_s, "co2", rule.co2_gap_s))
+    if session.spo2 is not None:
+        t = np.asarray(session.spo2.time_s, dtype=float)
+        out.extend(gap_findings(t[np.isfinite(session.spo2.spo2_pct)], "spo2", rule.spo2_gap_s))
+    return out
+
+
 def summarise_quality(
     session: Session,
     breaths: BreathTable,
     trends: Trends,
     baseline: Baseline,
     criteria: Criteria,
-) -> dict:
-    """The ``quality`` dictionary of an Analysis (keys in its docstring)."""
+) -> Quality:
+    """The :class:`Quality` of an Analysis."""
     valid = np.asarray(breaths.valid, dtype=bool)
     reasons = Counter(r for r, ok in zip(breaths.reason, valid, strict=True) if not ok)
-    return {
-        "sources": [asdict(s) for s in session.sources],
-        "findings": [asdict(f) for f in session.findings],
-        "warnings": list(session.warnings),
-        "invalid_breaths": {"count": int((~valid).sum()), "by_reason": dict(reasons)},
-        "spo2_artefact_samples": int(np.count_nonzero(trends.spo2_artefact)),
-        "criteria": {
-            "name": criteria.name,
-            "path": criteria.path,
-            "sha256": criteria.sha256,
-        },
-        "baseline": asdict(baseline),
-        "limitations": _limitations(session, breaths, baseline),
-    }
+    return Quality(
+        sources=tuple(session.sources),
+        findings=(*session.findings, *stream_gap_findings(session, criteria)),
+        warnings=tuple(session.warnings),
+        co2_gap_s=float(criteria.signal_loss.co2_gap_s),
+        spo2_gap_s=float(criteria.signal_loss.spo2_gap_s),
+        invalid_breaths=int((~valid).sum()),
+        invalid_by_reason=dict(reasons),
+        spo2_artefact_samples=int(np.count_nonzero(trends.spo2_artefact)),
+        criteria=CriteriaRef(criteria.name, criteria.path, criteria.sha256),
+        baseline=baseline,
+        limitations=tuple(_limitations(session, breaths, baseline)),
+    )

@@ -2,11 +2,10 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from pathlib import Path
 
-import numpy as np
-
-from sedreport.errors import SessionError
+from sedreport.errors import SedreportError, SessionError
 from sedreport.ingest._yaml import (
     ROLES,
     SessionSpec,
@@ -18,13 +17,7 @@ from sedreport.ingest.csv_streams import read_co2_csv, read_spo2_csv
 from sedreport.ingest.doses import read_doses
 from sedreport.ingest.events import read_events
 from sedreport.ingest.files import decode_text, read_file, resolve_inside
-from sedreport.ingest.quality import (
-    MAX_STEP_S,
-    find_gaps,
-    find_no_overlap,
-    missing_stream,
-    rate_warnings,
-)
+from sedreport.ingest.quality import find_no_overlap, missing_stream, rate_warnings
 from sedreport.ingest.signal_files import read_edf_signals, read_wfdb_signals
 from sedreport.ingest.signal_streams import read_co2_signal, read_spo2_signal
 from sedreport.ingest.streams import Loaded, ReadContext
@@ -129,15 +122,8 @@ def _read_source(spec: SourceSpec, ctx: ReadContext) -> Loaded:
 
 
 def _stream_findings(loaded: dict[str, Loaded]) -> list:
-    out = []
-    if "co2" in loaded:
-        out.extend(find_gaps(loaded["co2"].data.time_s, "co2", MAX_STEP_S["co2"]))
-    if "spo2" in loaded:
-        trend = loaded["spo2"].data
-        out.extend(find_gaps(trend.time_s[~np.isnan(trend.spo2_pct)], "spo2", MAX_STEP_S["spo2"]))
     spans = {role: ld.info.span_s for role, ld in loaded.items() if ld.info.span_s is not None}
-    out.extend(find_no_overlap(spans))
-    return out
+    return find_no_overlap(spans)
 
 
 def _criteria(spec: SessionSpec, ctx: ReadContext) -> str | None:
@@ -180,3 +166,22 @@ def _session(
         findings=tuple(findings),
         warnings=tuple(dict.fromkeys(warnings)),
     )
+
+
+def load_sessions(folders: Iterable[str | Path]) -> tuple[list[Session], list[str]]:
+    """Load each folder; a folder that fails does not stop the others.
+
+    Returns
+    -------
+    sessions : list of Session
+        Every folder that loaded, in the order given.
+    errors : list of str
+        One ``<session>/<file>:<line>: <what>`` line per folder that failed.
+    """
+    good, errors = [], []
+    for folder in folders:
+        try:
+            good.append(load_session(folder))
+        except SedreportError as exc:
+            errors.append(" ".join(str(exc).split()))
+    return good, errors

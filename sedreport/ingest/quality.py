@@ -1,17 +1,15 @@
-"""Data-quality findings at ingest: gaps, streams that do not overlap, missing streams.
+"""Data-quality findings at ingest: streams that do not overlap, missing streams.
 
-Nothing here changes the data: a gap is reported with the last sample before it and the first
-after it, never bridged by interpolation (DESIGN.md).
+Nothing here changes the data. Ingest keeps the raw sample times; gaps are judged later, by
+the one gap rule of :mod:`sedreport.gaps` with the active criteria's threshold.
 """
 
 from __future__ import annotations
 
-import numpy as np
-
 from sedreport.session import QualityFinding
 
-#: Largest sample step that is not a gap, seconds (DESIGN.md: CO2 1 s, SpO2 10 s).
-MAX_STEP_S = {"co2": 1.0, "spo2": 10.0}
+#: Streams whose time span is compared with the others' (the sampled signals).
+SIGNAL_ROLES = ("co2", "spo2")
 #: Capnogram sample rates the format expects, Hz (DESIGN.md: uniformly sampled at 10-200 Hz).
 CO2_RATE_HZ = (10.0, 200.0)
 
@@ -27,34 +25,6 @@ def rate_warnings(co2_rate_hz: float) -> list[str]:
     return [f"co2: sample rate {co2_rate_hz:.3g} Hz is outside the expected {lo:g}-{hi:g} Hz"]
 
 
-def find_gaps(time_s: np.ndarray, source: str, max_step_s: float) -> list[QualityFinding]:
-    """One ``gap`` finding per step longer than ``max_step_s``.
-
-    Parameters
-    ----------
-    time_s : ndarray
-        Increasing sample times, seconds on the session clock.
-    source : str
-        Role (``co2``, ``spo2``).
-    max_step_s : float
-        Longest step that is not a gap, seconds.
-    """
-    if time_s.size < 2:
-        return []
-    step = np.diff(time_s)
-    idx = np.flatnonzero(step > max_step_s)
-    return [
-        QualityFinding(
-            kind="gap",
-            source=source,
-            message=f"{source}: no samples for {step[i]:.1f} s ({time_s[i]:.2f}-{time_s[i + 1]:.2f} s)",
-            start_s=float(time_s[i]),
-            end_s=float(time_s[i + 1]),
-        )
-        for i in idx
-    ]
-
-
 def find_no_overlap(spans: dict[str, tuple[float, float]]) -> list[QualityFinding]:
     """``no_overlap`` for each stream whose span misses the span of all the other sources.
 
@@ -66,7 +36,7 @@ def find_no_overlap(spans: dict[str, tuple[float, float]]) -> list[QualityFindin
     out = []
     for role, (a, b) in spans.items():
         others = [s for r, s in spans.items() if r != role]
-        if not others or role not in MAX_STEP_S:
+        if not others or role not in SIGNAL_ROLES:
             continue
         lo = min(s[0] for s in others)
         hi = max(s[1] for s in others)

@@ -34,9 +34,6 @@ MAX_SINGLE_S: float = 240.0
 SPLIT_PART_S: float = 90.0
 #: At most this many close-ups; the most severe and longest are kept (the rest are named).
 MAX_CLOSEUPS: int = 24
-#: Raw CO2 samples further apart than this (s) are a gap (DESIGN.md: a step over 1 s).
-CO2_GAP_S: float = 1.0
-SPO2_GAP_S: float = 10.0
 
 LEFT_PT, RIGHT_PT = 34.0, 8.0
 CO2_PT, SPO2_PT, GAP_PT, AXIS_PT = 62.0, 36.0, 8.0, 12.0
@@ -159,7 +156,7 @@ def _one_window(
         g.add(label(3, spo2.y + spo2.height / 2 - 5, "%", 5.5))
     if s.co2 is not None:
         for line in series_shapes(
-            co2, s.co2.time_s, s.co2.co2_mmHg, styles.CO2_WAVE, max_gap_s=CO2_GAP_S
+            co2, s.co2.time_s, s.co2.co2_mmHg, styles.CO2_WAVE, max_gap_s=analysis.quality.co2_gap_s
         ):
             g.add(line)
     else:
@@ -168,7 +165,7 @@ def _one_window(
     if s.spo2 is not None:
         g.add(hline(spo2, spo2_line_pct, styles.REFERENCE))
         for line in series_shapes(
-            spo2, tr.spo2_time_s, tr.spo2_pct, styles.SPO2, max_gap_s=SPO2_GAP_S
+            spo2, tr.spo2_time_s, tr.spo2_pct, styles.SPO2, max_gap_s=analysis.quality.spo2_gap_s
         ):
             g.add(line)
     else:

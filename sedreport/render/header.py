@@ -102,7 +102,7 @@ def _episodes_text(analysis: Analysis) -> str:
     """``2: apnoea 1, desaturation 1``, or ``none`` when no episode was found."""
     if not analysis.episodes:
         return "none"
-    return f"{len(analysis.episodes)}: {_counts_text(analysis.summary.get('episodes_by_kind'))}"
+    return f"{len(analysis.episodes)}: {_counts_text(analysis.summary.episodes_by_kind)}"
 
 
 def _coverage_text(present: bool, pct: float | None, missing: str) -> str:
@@ -115,33 +115,33 @@ def _longest_apnoea_text(analysis: Analysis) -> str:
         return "not assessed (no CO2)"
     if not any(e.kind == "apnoea" for e in analysis.episodes):
         return "none detected"
-    return duration_text(analysis.summary.get("longest_apnoea_s"))
+    return duration_text(analysis.summary.longest_apnoea_s)
 
 
 def summary_pairs(analysis: Analysis) -> list[tuple[str, str]]:
     """Key figures of the summary as (label, value) text."""
     sm, s = analysis.summary, analysis.session
-    start, end = sm.get("sedation_start_s"), sm.get("sedation_end_s")
+    start, end = sm.sedation_start_s, sm.sedation_end_s
     span = f"{clock_text(s, start, False)} to {clock_text(s, end, False)}"
     b = analysis.baseline
     return [
-        ("Sedation", f"{duration_text(sm.get('sedation_duration_s'))} ({span})"),
+        ("Sedation", f"{duration_text(sm.sedation_duration_s)} ({span})"),
         (
             "CO2 coverage",
-            _coverage_text(s.co2 is not None, sm.get("co2_coverage_pct"), "no CO2 file"),
+            _coverage_text(s.co2 is not None, sm.co2_coverage_pct, "no CO2 file"),
         ),
         (
             "SpO2 coverage",
-            _coverage_text(s.spo2 is not None, sm.get("spo2_coverage_pct"), "no oximetry file"),
+            _coverage_text(s.spo2 is not None, sm.spo2_coverage_pct, "no oximetry file"),
         ),
         ("Episodes", _episodes_text(analysis)),
-        ("By severity", _counts_text(sm.get("episodes_by_severity"), severity_text)),
+        ("By severity", _counts_text(sm.episodes_by_severity, severity_text)),
         ("Longest apnoea", _longest_apnoea_text(analysis)),
-        ("Lowest SpO2", number_text(sm.get("min_spo2_pct"), 0, "%")),
-        ("SpO2 < 90 %", duration_text(sm.get("time_below_90_s"))),
-        ("Highest EtCO2", number_text(sm.get("max_etco2_mmHg"), 0, "mmHg")),
-        ("Median RR", number_text(sm.get("median_rr_per_min"), 1, "/min")),
-        ("Breaths", f"{sm.get('n_breaths', DASH)} ({sm.get('n_valid_breaths', DASH)} valid)"),
+        ("Lowest SpO2", number_text(sm.min_spo2_pct, 0, "%")),
+        (f"SpO2 < {sm.spo2_threshold_pct:g} %", duration_text(sm.time_below_spo2_threshold_s)),
+        ("Highest EtCO2", number_text(sm.max_etco2_mmHg, 0, "mmHg")),
+        ("Median RR", number_text(sm.median_rr_per_min, 1, "/min")),
+        ("Breaths", f"{sm.n_breaths} ({sm.n_valid_breaths} valid)"),
         (
             "Baseline",
             f"EtCO2 {number_text(b.etco2_mmHg, 0, 'mmHg')}, RR {number_text(b.rr_per_min, 1, '/min')}"
@@ -153,7 +153,7 @@ def summary_pairs(analysis: Analysis) -> list[tuple[str, str]]:
 def summary_flowables(analysis: Analysis, width_pt: float) -> list:
     """Summary heading, key-figure grid and one sentence per finding needing attention."""
     out: list = [Paragraph("Summary", styles.H1), _grid(summary_pairs(analysis), width_pt)]
-    attention = list(analysis.summary.get("attention") or [])
+    attention = list(analysis.summary.attention)
     out.append(Paragraph("Needs the reader's attention", styles.H2))
     if not attention:
         out.append(Paragraph("No finding was flagged for attention.", styles.BODY))

@@ -3,55 +3,29 @@
 from __future__ import annotations
 
 from datetime import UTC, datetime
-from pathlib import Path
 
-import yaml
 from reportlab.platypus import Paragraph, Spacer, Table, TableStyle
 
-from sedreport import __version__
+from sedreport._version import __version__
 from sedreport.analysis import Analysis
 from sedreport.errors import SedreportError
 from sedreport.render import styles
-from sedreport.render.fmt import number_text
+from sedreport.render.cautions import load_cautions
+from sedreport.render.fmt import DASH, number_text
 from sedreport.render.glossary import TermMark, standard_terms
 from sedreport.render.quality import missing_streams
 from sedreport.render.styles import para_text
 from sedreport.render.tables import cell, grid_table, scaled
-
-CAUTIONS_FILE = Path(__file__).resolve().parent.parent / "templates" / "cautions.yaml"
-
-
-def load_cautions(path: Path = CAUTIONS_FILE) -> list[tuple[str, str]]:
-    """(title, text) pairs of the caution file.
-
-    Raises
-    ------
-    SedreportError
-        When the file is missing or not of the form ``cautions: [{title, text}, ...]``.
-    """
-    try:
-        data = yaml.safe_load(path.read_text(encoding="utf-8"))
-    except (OSError, yaml.YAMLError) as exc:
-        raise SedreportError(f"{path}: cannot read the caution texts ({exc})") from exc
-    entries = data.get("cautions") if isinstance(data, dict) else None
-    if not isinstance(entries, list) or not entries:
-        raise SedreportError(f"{path}:cautions: expected a non-empty list of title/text")
-    out = []
-    for i, e in enumerate(entries):
-        if not isinstance(e, dict) or not e.get("title") or not e.get("text"):
-            raise SedreportError(f"{path}:cautions[{i}]: needs a title and a text")
-        out.append((str(e["title"]), " ".join(str(e["text"]).split())))
-    return out
 
 
 def limits_sentence(analysis: Analysis) -> str:
     """The data-quality limits of this particular record, in one paragraph."""
     sm = analysis.summary
     parts = [
-        f"CO2 was usable for {number_text(sm.get('co2_coverage_pct'), 0, '%')} and SpO2 for "
-        f"{number_text(sm.get('spo2_coverage_pct'), 0, '%')} of the sedation time."
+        f"CO2 was usable for {number_text(sm.co2_coverage_pct, 0, '%')} and SpO2 for "
+        f"{number_text(sm.spo2_coverage_pct, 0, '%')} of the sedation time."
     ]
-    gaps = [f for f in analysis.session.findings if f.kind == "gap"]
+    gaps = analysis.quality.gaps
     if gaps:
         parts.append(
             f"{len(gaps)} gap(s) in the recorded streams are listed under data quality;"
@@ -131,7 +105,7 @@ def provenance_flowables(
         Paragraph("Provenance", styles.H1),
         Paragraph(
             para_text(
-                f"Session {s.session_id}, folder {s.folder.name}. Produced by sedreport {__version__}"
+                f"Session {s.session_id}, folder {s.folder.name if s.folder else DASH}. Produced by sedreport {__version__}"
                 f" on {generated_at(source_date_epoch)}. With SOURCE_DATE_EPOCH set, the same "
                 "files and version give a byte-identical record."
             ),

@@ -78,13 +78,22 @@ def sources_table(analysis: Analysis, width_pt: float):
 
 
 def findings_flowables(analysis: Analysis, width_pt: float) -> list:
-    """Ingest findings (gaps, dropped rows...) and warnings."""
-    s = analysis.session
-    out: list = []
-    if s.findings:
+    """Findings (gaps by the criteria's gap rule, streams that do not overlap...) and warnings."""
+    s, q = analysis.session, analysis.quality
+    out: list = [
+        Paragraph(
+            para_text(
+                f"Gap rule (criteria {q.criteria.name}): a CO2 sample step longer than "
+                f"{q.co2_gap_s:g} s or an SpO2 step longer than {q.spo2_gap_s:g} s is a gap; "
+                "gaps are shown as gaps and never filled in."
+            ),
+            styles.BODY,
+        )
+    ]
+    if q.findings:
         head = [cell(h, styles.CELL_BOLD) for h in ("Finding", "Stream", "When", "What")]
         rows = [head]
-        for f in s.findings:
+        for f in q.findings:
             when = DASH
             if f.start_s is not None:
                 end = f" to {clock_text(s, f.end_s)}" if f.end_s is not None else ""
@@ -92,21 +101,16 @@ def findings_flowables(analysis: Analysis, width_pt: float) -> list:
             rows.append([cell(words(f.kind)), cell(f.source), cell(when), cell(f.message)])
         out.append(grid_table(rows, scaled([0.8, 0.6, 1.4, 4.0], width_pt)))
     else:
-        out.append(
-            Paragraph("Ingest reported no gaps, dropped rows or clock problems.", styles.BODY)
-        )
-    for w in s.warnings:
+        out.append(Paragraph("No gaps, dropped rows or clock problems were found.", styles.BODY))
+    for w in q.warnings:
         out.append(Paragraph(para_text(f"\u2022 Warning: {w}"), styles.BODY))
     return out
 
 
-def _count_text(value: object) -> str:
-    """``3 (short 2, low plateau 1)`` from ``{"count", "by_reason"}``, or a plain count."""
-    if isinstance(value, dict):
-        reasons = value.get("by_reason") or {}
-        detail = ", ".join(f"{words(str(k))} {v}" for k, v in reasons.items())
-        return f"{value.get('count', 0)}" + (f" ({detail})" if detail else "")
-    return str(value if value is not None else 0)
+def _invalid_text(count: int, by_reason: dict[str, int]) -> str:
+    """``3 (short 2, low plateau 1)``, or ``0``."""
+    detail = ", ".join(f"{words(str(k))} {v}" for k, v in by_reason.items())
+    return f"{count}" + (f" ({detail})" if detail else "")
 
 
 def _value_text(value: float, unit: str) -> str:
@@ -208,15 +212,15 @@ def quality_flowables(analysis: Analysis, width_pt: float) -> list:
         out.append(
             Paragraph("All four streams (CO2, SpO2, doses, events) were given.", styles.BODY)
         )
-    for limit in q.get("limitations") or []:
+    for limit in q.limitations:
         out.append(Paragraph(para_text(f"\u2022 Not assessed: {limit}"), styles.BODY))
     out.append(Paragraph("Gaps, artefacts and warnings", styles.H2))
     out += findings_flowables(analysis, width_pt)
     out.append(
         Paragraph(
             para_text(
-                f"Breaths not usable for trends: {_count_text(q.get('invalid_breaths'))}. "
-                f"SpO2 samples marked as artefact: {_count_text(q.get('spo2_artefact_samples'))}."
+                f"Breaths not usable for trends: {_invalid_text(q.invalid_breaths, q.invalid_by_reason)}. "
+                f"SpO2 samples marked as artefact: {q.spo2_artefact_samples}."
             ),
             styles.BODY,
         )

@@ -15,13 +15,14 @@ from pathlib import Path
 
 from reportlab.platypus import KeepTogether, Paragraph, Spacer
 
-from sedreport import __version__
-from sedreport.analysis import Analysis, episodes_json
+from sedreport._version import __version__
+from sedreport.analysis import Analysis
 from sedreport.render import closeups, strips, styles
 from sedreport.render.atomic import atomic_output
 from sedreport.render.fmt import clock_text, duration_text, severity_text, words
 from sedreport.render.glossary import TermMark, span_terms, standard_terms
 from sedreport.render.header import header_flowables, summary_flowables
+from sedreport.render.json_text import episodes_json
 from sedreport.render.legend import codes_text, legend
 from sedreport.render.pages import SectionBreak, numbered_canvas, record_document
 from sedreport.render.provenance import (

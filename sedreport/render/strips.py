@@ -30,11 +30,6 @@ from sedreport.render.plot import (
 #: Minutes per row, tried in order; the first giving at most MAX_ROWS rows is used.
 ROW_MINUTES: tuple[int, ...] = (10, 15, 20, 30, 60, 120, 240)
 MAX_ROWS: int = 18
-#: Per-breath EtCO2 lines are broken where no breath came for this long (s): a pause is shown
-#: as a gap, never bridged.
-BREATH_GAP_S: float = 20.0
-#: Oximeter samples further apart than this (s) are not joined (ingest's SpO2 gap rule).
-SPO2_GAP_S: float = 10.0
 #: Envelope columns per point of strip width (one min/max pair per 2 pt).
 TREND_COLS_PER_PT: float = 0.5
 
@@ -175,7 +170,7 @@ def _co2_strip(analysis: Analysis, p: Panel) -> Group:
                 tr.breath_time_s,
                 values,
                 style,
-                max_gap_s=BREATH_GAP_S,
+                max_gap_s=analysis.criteria.apnoea.min_duration_s,  # a pause that is apnoea breaks it
                 cols_per_pt=TREND_COLS_PER_PT,
             ):
                 g.add(shp)
@@ -228,7 +223,7 @@ def _spo2_strip(analysis: Analysis, p: Panel, spo2_line_pct: float) -> Group:
             tr.spo2_time_s,
             values,
             style,
-            max_gap_s=SPO2_GAP_S,
+            max_gap_s=analysis.quality.spo2_gap_s,
             scale=scale,
             cols_per_pt=TREND_COLS_PER_PT,
         ):

@@ -95,7 +95,7 @@ def _infusion_mg(doses: list[Dose]) -> float:
 
 def totals_end_s(analysis: Analysis) -> tuple[float, str]:
     """Time up to which totals are summed and how that time was chosen."""
-    end = analysis.summary.get("sedation_end_s")
+    end = analysis.summary.sedation_end_s
     if isinstance(end, int | float) and math.isfinite(end):
         return float(end), "end of sedation"
     return analysis.session.span_s()[1], "end of the recorded data"
