@@ -75,6 +75,18 @@ def _suffix(suffix: str, what: str):
     return check
 
 
+def _load(folder: str):
+    """Load a session and repeat its grave findings (a stream missing the CO2) on stderr."""
+    from sedreport.ingest import load_session
+    from sedreport.ingest.quality import stderr_warnings
+
+    session = load_session(folder)
+    findings = ((f.kind, f.message) for f in session.findings)
+    for line in stderr_warnings(session.session_id, findings):
+        click.echo(f"warning: {line}", err=True)
+    return session
+
+
 #: Shared options, defined once.
 criteria_option = click.option(
     "--criteria",
@@ -121,9 +133,14 @@ def check_command(sessions: tuple[str, ...], fmt: str) -> None:
     """
     import json
 
+    from sedreport.ingest.quality import stderr_warnings
     from sedreport.ingest.report import CAUTION, check_sessions, format_text
 
     good, errors = check_sessions(sessions)
+    for desc in good:
+        findings = ((f["kind"], f["message"]) for f in desc["findings"])
+        for line in stderr_warnings(desc["session_id"], findings):
+            click.echo(f"warning: {line}", err=True)
     if fmt == "json":
         click.echo(json.dumps({"sessions": good, "errors": errors, "caution": CAUTION}, indent=2))
     else:
@@ -172,10 +189,9 @@ def record_command(
     does not replace watching the patient. Local sedation policy and licensed practice decide.
     """
     from sedreport.analysis import analyse_session
-    from sedreport.ingest import load_session
     from sedreport.render.record import render_record
 
-    analysis = analyse_session(load_session(session), criteria_path)
+    analysis = analyse_session(_load(session), criteria_path)
     written = render_record(analysis, output, paper=paper, json_path=json_path)
     click.echo(f"wrote {written}" + (f" and {json_path}" if json_path else ""))
 
@@ -192,9 +208,8 @@ def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
     observation comes first; local sedation policy and licensed practice decide.
     """
     from sedreport.capnography.output import breaths_output
-    from sedreport.ingest import load_session
 
-    click.echo(breaths_output(load_session(session), fmt, criteria_path), nl=False)
+    click.echo(breaths_output(_load(session), fmt, criteria_path), nl=False)
 
 
 @cli.command("episodes")
@@ -209,9 +224,8 @@ def episodes_command(session: str, fmt: str, criteria_path: str | None) -> None:
     observation comes first; local sedation policy and licensed practice decide.
     """
     from sedreport.analysis import episodes_output
-    from sedreport.ingest import load_session
 
-    click.echo(episodes_output(load_session(session), fmt, criteria_path), nl=False)
+    click.echo(episodes_output(_load(session), fmt, criteria_path), nl=False)
 
 
 @cli.command("criteria")

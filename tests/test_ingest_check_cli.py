@@ -6,6 +6,7 @@ import json
 import subprocess
 import sys
 
+import pytest
 from click.testing import CliRunner
 from test_ingest_support import make_session
 
@@ -35,17 +36,19 @@ def test_check_json_co2_only_names_missing_streams(tmp_path):
     folder = make_session(
         tmp_path,
         drop=("spo2", "doses", "events"),
-        files={"co2.csv": "time,co2\n0,1\n0.5,2\n3.0,3\n3.5,2\n"},
+        files={"co2.csv": "time,co2\n0,1\n0.004,2\n3.0,3\n3.004,2\n"},
     )
     result = CliRunner().invoke(cli, ["check", "--format", "json", str(folder)])
     assert result.exit_code == 0, result.output
     doc = json.loads(result.output)
     assert doc["errors"] == []
     (desc,) = doc["sessions"]
-    assert desc["session_id"] == "T-0001" and desc["duration_s"] == 3.5
+    assert desc["session_id"] == "T-0001" and desc["duration_s"] == 3.004
     co2 = next(s for s in desc["streams"] if s["role"] == "co2")
     assert (
-        co2["sample_rate_hz"] == 2.0 and co2["span_s"] == [0.0, 3.5] and co2["conversion"] == "none"
+        co2["sample_rate_hz"] == pytest.approx(250.0)
+        and co2["span_s"] == [0.0, 3.004]
+        and co2["conversion"] == "none"
     )
     kinds = sorted((f["kind"], f["source"]) for f in desc["findings"])
     assert kinds == [
@@ -55,9 +58,9 @@ def test_check_json_co2_only_names_missing_streams(tmp_path):
         ("missing_stream", "spo2"),
     ]
     gap = next(f for f in desc["findings"] if f["kind"] == "gap")
-    assert (gap["start_s"], gap["end_s"]) == (0.5, 3.0)
-    assert len(desc["warnings"]) == 4  # three missing streams and the 2 Hz rate
-    assert "co2: sample rate 2 Hz is outside the expected 10-200 Hz" in desc["warnings"]
+    assert (gap["start_s"], gap["end_s"]) == (0.004, 3.0)
+    assert len(desc["warnings"]) == 4  # three missing streams and the 250 Hz rate
+    assert "co2: sample rate 250 Hz is outside the expected 10-200 Hz" in desc["warnings"]
 
 
 def test_check_mixed_good_and_bad_exit_2_through_main(tmp_path):
@@ -97,8 +100,9 @@ def test_check_needs_a_session(tmp_path):
 
 
 def test_check_text_lists_at_most_20_gaps(tmp_path):
-    # 30 CO2 samples 2 s apart: 29 steps > 1 s, i.e. 29 gap findings.
-    co2 = "time,co2\n" + "".join(f"{2 * i},30\n" for i in range(30))
+    # 30 pairs of 25 Hz CO2 samples 2 s apart: 29 steps of 1.96 s > 1 s, i.e. 29 gap findings
+    # (the median step stays 0.04 s, a waveform rate).
+    co2 = "time,co2\n" + "".join(f"{2 * i},30\n{2 * i}.04,30\n" for i in range(30))
     folder = make_session(tmp_path, drop=("spo2", "doses", "events"), files={"co2.csv": co2})
     result = CliRunner().invoke(cli, ["check", str(folder)])
     assert result.exit_code == 0
