@@ -3,20 +3,17 @@
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 
 import pytest
-from click.testing import CliRunner
+from click.testing import CliRunner, Result
 from test_ingest_support import make_session
 
 from sedreport.cli import cli
 
 
-def _run(*args: str) -> subprocess.CompletedProcess:
-    return subprocess.run(
-        [sys.executable, "-m", "sedreport.cli", *args], capture_output=True, text=True, check=False
-    )
+def _run(*args: str) -> Result:
+    """``sedreport ARGS`` in-process (click's test runner; stderr kept apart)."""
+    return CliRunner().invoke(cli, list(args))
 
 
 def test_check_text_for_a_good_session(tmp_path):
@@ -40,7 +37,7 @@ def test_check_json_co2_only_names_missing_streams(tmp_path):
     )
     result = CliRunner().invoke(cli, ["check", "--format", "json", str(folder)])
     assert result.exit_code == 0, result.output
-    doc = json.loads(result.output)
+    doc = json.loads(result.stdout)
     assert doc["errors"] == []
     (desc,) = doc["sessions"]
     assert desc["session_id"] == "T-0001" and desc["duration_s"] == 3.004
@@ -63,12 +60,12 @@ def test_check_json_co2_only_names_missing_streams(tmp_path):
     assert "co2: sample rate 250 Hz is outside the expected 10-200 Hz" in desc["warnings"]
 
 
-def test_check_mixed_good_and_bad_exit_2_through_main(tmp_path):
+def test_check_mixed_good_and_bad_exit_2(tmp_path):
     good = make_session(tmp_path, name="good")
     bad = make_session(tmp_path, files={"co2.csv": "time,co2\n0,1\n0.04,abc\n"}, name="bad")
     bad_yaml = make_session(tmp_path, {"patient.asa_class": 9}, name="bad2")
     proc = _run("check", str(good), str(bad), str(bad_yaml))
-    assert proc.returncode == 2
+    assert proc.exit_code == 2
     assert "Traceback" not in proc.stderr + proc.stdout
     assert proc.stderr.splitlines() == [
         "error: T-0001/co2.csv:3: CO2 value 'abc' is not a finite number",
@@ -79,7 +76,7 @@ def test_check_mixed_good_and_bad_exit_2_through_main(tmp_path):
 
 def test_check_missing_folder(tmp_path):
     proc = _run("check", str(tmp_path / "absent"))
-    assert proc.returncode == 2
+    assert proc.exit_code == 2
     assert proc.stderr.splitlines() == [
         f"error: absent: not a session folder ({tmp_path / 'absent'} is not a directory)"
     ]
@@ -90,13 +87,13 @@ def test_check_multiline_cell_gives_one_stderr_line(tmp_path):
         tmp_path, files={"doses.csv": 'time,drug,dose,unit,route\n0,"pro\npofol",1,tablets,iv\n'}
     )
     proc = _run("check", str(folder))
-    assert proc.returncode == 2 and len(proc.stderr.splitlines()) == 1
+    assert proc.exit_code == 2 and len(proc.stderr.splitlines()) == 1
     assert proc.stderr.startswith("error: T-0001/doses.csv:2: unknown dose unit 'tablets'")
 
 
 def test_check_needs_a_session(tmp_path):
     proc = _run("check")
-    assert proc.returncode == 2 and proc.stderr.startswith("error: ")
+    assert proc.exit_code == 2 and proc.stderr == "error: Missing argument 'SESSIONS...'.\n"
 
 
 def test_check_text_lists_at_most_20_gaps(tmp_path):
@@ -110,5 +107,5 @@ def test_check_text_lists_at_most_20_gaps(tmp_path):
         "gaps: 29" in result.output
         and "... and 9 more (all of them in --format json)" in result.output
     )
-    doc = json.loads(CliRunner().invoke(cli, ["check", "--format", "json", str(folder)]).output)
+    doc = json.loads(CliRunner().invoke(cli, ["check", "--format", "json", str(folder)]).stdout)
     assert sum(f["kind"] == "gap" for f in doc["sessions"][0]["findings"]) == 29
