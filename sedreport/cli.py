@@ -1,17 +1,91 @@
 """Command line: a thin layer of click commands over the library stages.
 
-Every :class:`sedreport.errors.SedreportError` becomes a one-line ``error: ...`` on stderr and
-exit code 2; anything else is an internal failure (exit 1).
+Every :class:`sedreport.errors.SedreportError` and every click usage error becomes a one-line
+``error: ...`` on stderr and exit code 2, inside the click group itself (so click's test runner
+sees what the installed command prints); anything else is an internal failure (exit 1).
 """
 
 from __future__ import annotations
 
 import sys
+from collections.abc import Iterator
+from contextlib import contextmanager
 
 import click
 
 from sedreport._version import __version__
 from sedreport.errors import SedreportError
+
+
+@contextmanager
+def _one_line_errors(ctx: click.Context) -> Iterator[None]:
+    """Bad input or usage: ``error: <message>`` on stderr and exit 2, never a traceback."""
+    try:
+        yield
+    except click.exceptions.NoArgsIsHelpError as exc:
+        click.echo(exc.format_message(), err=True)
+        ctx.exit(2)
+    except click.exceptions.Abort:
+        click.echo("error: aborted", err=True)
+        ctx.exit(2)
+    except click.ClickException as exc:
+        click.echo(f"error: {exc.format_message()}", err=True)
+        ctx.exit(2)
+    except SedreportError as exc:
+        click.echo(f"error: {exc}", err=True)
+        ctx.exit(2)
+
+
+class SedreportGroup(click.Group):
+    """The click group: parsing and command errors become one ``error:`` line and exit 2."""
+
+    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
+        with _one_line_errors(ctx):
+            return super().parse_args(ctx, args)
+
+    def invoke(self, ctx: click.Context):
+        with _one_line_errors(ctx):
+            return super().invoke(ctx)
+
+
+class DemoCommand(click.Command):
+    """``demo``: its help ends with the scenario names (read when the help is shown)."""
+
+    def format_epilog(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
+        from sedreport.demo import SCENARIOS
+
+        with formatter.section("Scenarios (--scenario NAME)"):
+            formatter.write_dl(
+                [
+                    (name, f"{spec.session_id}: {spec.description}")
+                    for name, spec in SCENARIOS.items()
+                ]
+            )
+        super().format_epilog(ctx, formatter)
+
+
+def _suffix(suffix: str, what: str):
+    """A click callback: the file name must end in ``suffix`` (any case)."""
+
+    def check(ctx: click.Context, param: click.Parameter, value: str | None) -> str | None:
+        if value is not None and not value.lower().endswith(suffix):
+            raise click.BadParameter(f"{value!r} does not end in {suffix}; {what}")
+        return value
+
+    return check
+
+
+def _load(folder: str):
+    """Load a session and repeat its grave findings (a stream missing the CO2) on stderr."""
+    from sedreport.ingest import load_session
+    from sedreport.ingest.quality import stderr_warnings
+
+    session = load_session(folder)
+    findings = ((f.kind, f.message) for f in session.findings)
+    for line in stderr_warnings(session.session_id, findings):
+        click.echo(f"warning: {line}", err=True)
+    return session
+
 
 #: Shared options, defined once.
 criteria_option = click.option(
@@ -24,14 +98,14 @@ criteria_option = click.option(
 table_format_option = click.option(
     "--format",
     "fmt",
-    type=click.Choice(["table", "csv", "json"]),
+    type=click.Choice(["table", "csv", "json"], case_sensitive=False),
     default="table",
     show_default=True,
     help="Output format on stdout (csv and json: the documented contract).",
 )
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.group(cls=SedreportGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="sedreport")
 def cli() -> None:
     """sedreport: sedation records, committee audits and COPD trends from recorded data.
@@ -45,7 +119,7 @@ def cli() -> None:
 @click.option(
     "--format",
     "fmt",
-    type=click.Choice(["text", "json"]),
+    type=click.Choice(["text", "json"], case_sensitive=False),
     default="text",
     show_default=True,
     help="Output format on stdout.",
@@ -55,16 +129,22 @@ def check_command(sessions: tuple[str, ...], fmt: str, criteria_path: str | None
     """Load SESSION folders and show what was read: clock, streams, units, gaps, warnings.
 
     Exit 0 when every session loads; 2 when any fails (one `error:` line each on stderr,
-    the good ones still reported). Gaps follow the gap rule of the criteria file. This checks the recorded files only; it is not an alarm
-    or a diagnosis, and says nothing about the patient's condition.
+    the good ones still reported). Gaps follow the gap rule of the criteria file. This checks
+    the recorded files only; it is not an alarm or a diagnosis, and says nothing about the
+    patient's condition.
     """
     from sedreport.analysis import resolve_criteria
     from sedreport.ingest.load import load_sessions
+    from sedreport.ingest.quality import stderr_warnings
     from sedreport.render.json_text import check_json, describe_session
     from sedreport.render.terminal import check_report_text
 
     good, errors = load_sessions(sessions)
     described = [describe_session(s, resolve_criteria(s, criteria_path)) for s in good]
+    for session in good:
+        findings = ((f.kind, f.message) for f in session.findings)
+        for line in stderr_warnings(session.session_id, findings):
+            click.echo(f"warning: {line}", err=True)
     if fmt == "json":
         click.echo(check_json(described, errors), nl=False)
     else:
@@ -82,16 +162,23 @@ def check_command(sessions: tuple[str, ...], fmt: str, criteria_path: str | None
     "--output",
     required=True,
     type=click.Path(path_type=str),
-    help="PDF file to write (written atomically).",
+    callback=_suffix(".pdf", "the record is a PDF file"),
+    help="PDF file to write (written atomically; the name ends in .pdf).",
 )
 @criteria_option
-@click.option("--paper", type=click.Choice(["a4", "letter"]), default="a4", show_default=True)
+@click.option(
+    "--paper",
+    type=click.Choice(["a4", "letter"], case_sensitive=False),
+    default="a4",
+    show_default=True,
+)
 @click.option(
     "--json",
     "json_path",
     type=click.Path(path_type=str),
     default=None,
-    help="Also write the episodes JSON (as `sedreport episodes --format json`).",
+    callback=_suffix(".json", "the episodes file is JSON"),
+    help="Also write the episodes JSON (as `sedreport episodes --format json`; ends in .json).",
 )
 def record_command(
     session: str, output: str, criteria_path: str | None, paper: str, json_path: str | None
@@ -103,10 +190,9 @@ def record_command(
     does not replace watching the patient. Local sedation policy and licensed practice decide.
     """
     from sedreport.analysis import analyse_session
-    from sedreport.ingest import load_session
     from sedreport.render.record import render_record
 
-    analysis = analyse_session(load_session(session), criteria_path)
+    analysis = analyse_session(_load(session), criteria_path)
     written = render_record(analysis, output, paper=paper, json_path=json_path)
     click.echo(f"wrote {written}" + (f" and {json_path}" if json_path else ""))
 
@@ -123,10 +209,9 @@ def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
     observation comes first; local sedation policy and licensed practice decide.
     """
     from sedreport.analysis import breaths_of_session
-    from sedreport.ingest import load_session
     from sedreport.render.stdout import breaths_text
 
-    loaded = load_session(session)
+    loaded = _load(session)
     breaths, criteria = breaths_of_session(loaded, criteria_path)
     click.echo(breaths_text(breaths, loaded.session_id, criteria, fmt), nl=False)
 
@@ -143,10 +228,9 @@ def episodes_command(session: str, fmt: str, criteria_path: str | None) -> None:
     observation comes first; local sedation policy and licensed practice decide.
     """
     from sedreport.analysis import analyse_session
-    from sedreport.ingest import load_session
     from sedreport.render.stdout import episodes_text
 
-    analysis = analyse_session(load_session(session), criteria_path)
+    analysis = analyse_session(_load(session), criteria_path)
     click.echo(episodes_text(analysis, fmt), nl=False)
 
 
@@ -163,13 +247,13 @@ def criteria_command(file: str | None) -> None:
     click.echo(criteria_text(load_criteria(file)), nl=False)
 
 
-@cli.command("demo")
+@cli.command("demo", cls=DemoCommand)
 @click.argument("outdir", type=click.Path(file_okay=False, path_type=str))
 @click.option(
     "--scenario",
     default="all",
     show_default=True,
-    help="One scenario name, or `all` (also writes a README).",
+    help="One scenario name (listed below), or `all` (also writes a README).",
 )
 @click.option(
     "--seed", type=int, default=0, show_default=True, help="Same seed, byte-identical files."
@@ -215,9 +299,13 @@ def demo_command(
 
 
 def main() -> None:
-    """Console entry point: run the click group, map errors to exit codes."""
+    """Console entry point: run the click group and exit with its code.
+
+    The group itself maps bad input and usage to ``error: ...`` and exit 2; the handlers here
+    only catch what happens outside it (Ctrl-C, an abort before the group runs).
+    """
     try:
-        cli.main(standalone_mode=False)
+        code = cli.main(standalone_mode=False)
     except click.exceptions.Abort:
         click.echo("error: aborted", err=True)
         sys.exit(2)
@@ -229,7 +317,7 @@ def main() -> None:
         sys.exit(2)
     except KeyboardInterrupt:
         sys.exit(130)
-    sys.exit(0)
+    sys.exit(code if isinstance(code, int) else 0)
 
 
 if __name__ == "__main__":

@@ -325,6 +325,9 @@ def default_criteria() -> Criteria:
 
 
 def _check_top(where: str, doc: dict) -> None:
+    fmt = doc.get("format")
+    if isinstance(fmt, str) and fmt.startswith("sedreport-session/"):
+        raise CriteriaError(where, f"this is a session file (format: {fmt}), not a criteria file")
     unknown = sorted(str(k) for k in doc if k not in _TOP_KEYS)
     if unknown:
         raise CriteriaError(f"{where}: {unknown[0]}", "unknown top-level key")

@@ -15,15 +15,14 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import neurokit2 as nk
 import numpy as np
+import pybreathe
 import pytest
 from test_capnography_traces import TraceSpec, make_trace
 
 from sedreport.capnography import find_breaths
 from sedreport.session import Capnogram
-
-nk = pytest.importorskip("neurokit2")
-pybreathe = pytest.importorskip("pybreathe")
 
 
 def _nk_median_rate(co2: np.ndarray, fs_hz: float) -> float:

@@ -18,11 +18,9 @@ import numpy as np
 import pytest
 from test_capnography_traces import TraceSpec, make_trace, score
 
+from sedreport import demo, ingest
 from sedreport.capnography import find_breaths
 from sedreport.session import Capnogram
-
-demo = pytest.importorskip("sedreport.demo")
-ingest = pytest.importorskip("sedreport.ingest")
 
 #: 1 kPa = 1000 Pa / 133.322387415 Pa per mmHg (conventional millimetre of mercury).
 MMHG_PER_KPA = 1000.0 / 133.322387415

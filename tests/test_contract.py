@@ -1,10 +1,12 @@
 """Independent audit of the machine-readable contract of DESIGN.md, through the real CLI.
 
-Every check runs ``python -m sedreport.cli`` in a subprocess on invented demo sessions written
+Every check runs the ``sedreport`` click group in-process (click's test runner, stdout and
+stderr apart; ``test_cli_smoke.py`` runs the entry point as a process) on invented demo sessions
+written
 with :func:`sedreport.demo.write_scenario` (or :func:`sedreport.demo.simulate_and_write` for a
 variant) and compares the output with the planted truth JSON, with the raw data files read
 here independently, and with the contract text of DESIGN.md ("Machine-readable outputs", "The
-session folder"). The CLI runs are started once per module, in parallel, so the file stays fast.
+session folder"). The CLI runs are made once per module, so the file stays fast.
 
 Tolerances: the breaths csv prints times to 3 decimals (0.0005 s rounding), EtCO2/FiCO2 to 2 and
 rr to 2; the episodes json prints full floats. Where a check allows for that rounding it says so.
@@ -19,18 +21,17 @@ import gzip
 import hashlib
 import io
 import json
-import os
 import shutil
-import subprocess
-import sys
-from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import pytest
 import yaml
+from click.testing import CliRunner
 
 from sedreport import demo
+from sedreport.cli import cli
 from sedreport.demo.case import Apnoea
 
 pytestmark = pytest.mark.filterwarnings("error")
@@ -158,18 +159,19 @@ def _bad_criteria(path: Path) -> Path:
     return path
 
 
-def _run(args: list[str]) -> subprocess.CompletedProcess:
-    # One BLAS thread per run: the runs go in parallel, one per core.
-    threads = {k: "1" for k in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")}
-    env = {**os.environ, **threads, "SOURCE_DATE_EPOCH": EPOCH}
-    return subprocess.run(
-        [sys.executable, "-m", "sedreport.cli", *args],
-        capture_output=True,
-        text=True,
-        cwd=REPO,
-        env=env,
-        timeout=300,
-    )
+@dataclass(frozen=True)
+class Ran:
+    """What one command printed and returned."""
+
+    returncode: int
+    stdout: str
+    stderr: str
+
+
+def _run(args: list[str]) -> Ran:
+    """``sedreport ARGS`` in-process with ``SOURCE_DATE_EPOCH`` set (reproducible outputs)."""
+    result = CliRunner(env={"SOURCE_DATE_EPOCH": EPOCH}).invoke(cli, args)
+    return Ran(result.exit_code, result.stdout, result.stderr)
 
 
 @pytest.fixture(scope="module")
@@ -213,8 +215,7 @@ def ws(tmp_path_factory):
     jobs["rec_a"] = ["record", str(ugi), "-o", str(outs["rec_a"])]
     jobs["rec_b"] = ["record", str(ugi), "-o", str(outs["rec_b"])]
     jobs["rec_edf"] = ["record", str(folders["edf"]), "-o", str(outs["rec_edf"])]
-    with ThreadPoolExecutor(max_workers=max(2, os.cpu_count() or 2)) as pool:
-        results = dict(zip(jobs, pool.map(_run, jobs.values()), strict=True))
+    results = {key: _run(args) for key, args in jobs.items()}
     return {"root": root, "folders": folders, "truth": truth, "runs": results, "pdf": outs}
 
 

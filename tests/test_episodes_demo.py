@@ -12,14 +12,14 @@ from __future__ import annotations
 
 import dataclasses
 import json
-import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
 import pytest
+from click.testing import CliRunner, Result
 
 from sedreport.analysis import analyse_session
+from sedreport.cli import cli
 from sedreport.criteria import load_criteria
 from sedreport.demo import SCENARIOS, load_truth, write_scenario
 from sedreport.episodes import lean_body_weight_kg
@@ -130,30 +130,29 @@ def test_session_without_co2_still_analyses(demo):
     assert any("No CO2 stream" in x for x in analysis.quality.limitations)
 
 
-def run_cli(*args):
-    return subprocess.run(
-        [sys.executable, "-m", "sedreport.cli", *args], capture_output=True, text=True, timeout=120
-    )
+def run_cli(*args: str) -> Result:
+    """``sedreport ARGS`` in-process (click's test runner; stderr kept apart)."""
+    return CliRunner().invoke(cli, list(args))
 
 
 def test_cli_json_and_bad_criteria(demo, tmp_path):
     folder, _, analysis = demo["upper_gi_apnoea"]
     ok = run_cli("episodes", str(folder), "--format", "json")
-    assert ok.returncode == 0, ok.stderr
+    assert ok.exit_code == 0, ok.stderr
     assert len(json.loads(ok.stdout)["episodes"]) == len(analysis.episodes)
     bad = tmp_path / "bad.yaml"
     bad.write_text(Path(CRIT.path).read_text().replace("value: 15", "value: -3"))
     res = run_cli("episodes", str(folder), "--criteria", str(bad))
-    assert res.returncode == 2
+    assert res.exit_code == 2
     assert res.stdout == ""
     assert res.stderr.startswith("error: ") and "apnoea.min_duration_s" in res.stderr
     assert "Traceback" not in res.stderr
     shown = run_cli("criteria")
-    assert shown.returncode == 0 and "Deitch et al., Ann Emerg Med 2010" in shown.stdout
+    assert shown.exit_code == 0 and "Deitch et al., Ann Emerg Med 2010" in shown.stdout
     missing = run_cli("criteria", str(tmp_path / "none.yaml"))
-    assert missing.returncode == 2 and missing.stderr.startswith("error: ")
+    assert missing.exit_code == 2 and missing.stderr.startswith("error: ")
     table = run_cli("episodes", str(folder))
-    assert table.returncode == 0
+    assert table.exit_code == 0
     assert "E1   apnoea" in table.stdout and "not an alarm or a diagnosis" in table.stdout
     csv = run_cli("episodes", str(folder), "--format", "csv")
     assert csv.stdout.splitlines()[0].startswith("id,kind,subtype,start_s,end_s,duration_s")

@@ -121,13 +121,13 @@ def test_spo2_without_pulse_column(tmp_path):
 
 
 def test_blank_co2_cell_drops_row_counted(tmp_path):
-    text = "time,co2\n0,1\n0.5,\n1.0,3\n2.5,4\n"
+    text = "time,co2\n0,1\n0.04,2\n0.08,\n0.12,3\n1.62,4\n1.66,4\n"
     s = load_session(make_session(tmp_path, files={"co2.csv": text}))
-    assert s.co2.time_s.tolist() == [0.0, 1.0, 2.5]
+    assert s.co2.time_s.tolist() == [0.0, 0.04, 0.12, 1.62, 1.66]
     msgs = [f.message for f in s.findings if f.kind == "dropped"]
-    assert msgs == ["co2: 1 rows with a blank CO2 cell dropped (first at line 3)"]
+    assert msgs == ["co2: 1 rows with a blank CO2 cell dropped (first at line 4)"]
     gaps = [(f.start_s, f.end_s) for f in _gaps(s) if f.source == "co2"]
-    assert gaps == [(1.0, 2.5)]  # step 1.5 s > 1 s; the 1.0 s step is not a gap
+    assert gaps == [(0.12, 1.62)]  # step 1.5 s > 1 s; the 0.08 s hole is not a gap
 
 
 def test_blank_lines_are_skipped_and_line_numbers_stay_true(tmp_path):
@@ -188,24 +188,22 @@ def test_gaps_and_rates(tmp_path):
 def test_iso_times_with_offset_and_clock_offset(tmp_path):
     # 09:12:10+01:00 is 10 s after started; the same instant written in UTC is 08:12:10Z.
     text = (
-        "time,co2\n2026-03-14T09:12:10+01:00,1\n2026-03-14T08:12:10.5Z,2\n"
-        "2026-03-14T09:12:11.000+0100,3\n"
+        "time,co2\n2026-03-14T09:12:10+01:00,1\n2026-03-14T08:12:10.05Z,2\n"
+        "2026-03-14T09:12:10.100+0100,3\n"
     )
     folder = make_session(tmp_path, {"sources.co2.clock_offset_s": -4}, files={"co2.csv": text})
     s = load_session(folder)
-    assert s.co2.time_s.tolist() == [6.0, 6.5, 7.0]
+    np.testing.assert_allclose(s.co2.time_s, [6.0, 6.05, 6.1], atol=1e-9)
     assert s.source("co2").time_style == "iso8601" and s.source("co2").clock_offset_s == -4
     assert not [f for f in s.findings if f.kind == "naive_time"]
 
 
 def test_naive_iso_takes_started_offset_with_warning(tmp_path):
-    text = (
-        "time,spo2\n2026-03-14T09:12:00,97\n2026-03-14T09:12:01,97\n2026-03-14T09:12:02+01:00,97\n"
-    )
+    text = "time,spo2\n2026-03-14T09:12:00,97\n2026-03-14T09:12:01,97\n2026-03-14T09:12:02,97\n"
     s = load_session(make_session(tmp_path, files={"spo2.csv": text}))
     assert s.spo2.time_s.tolist() == [0.0, 1.0, 2.0]
     naive = [f for f in s.findings if f.kind == "naive_time"]
-    assert len(naive) == 1 and "2 timestamps without UTC offset" in naive[0].message
+    assert len(naive) == 1 and "3 timestamps without UTC offset" in naive[0].message
     assert any("read in started's offset (+01:00)" in w for w in s.warnings)
 
 

@@ -11,10 +11,11 @@ and one line on stderr, ``error: <session>/<file>:<line>: <what is wrong>`` (or
 ``<session>/session.yaml:<field>``), never a traceback and never a partial output file. The
 tests match the session, the file name, the line number or field name, not the wording.
 
-Each case's folder is built once and all selected runs go through a pool of one worker per
-CPU; the ``episodes`` and ``record`` variants are marked ``slow`` (one subprocess each, about
-1 s of CPU) so that ``-m "not slow"`` keeps only the ``check`` runs. While a later command does
-not exist yet (click: "No such command") its variants are skipped with that reason.
+Each case's folder is built once (module-wide) and every command runs in-process through click's
+test runner, which goes through the same click group as the installed ``sedreport`` command
+(the group maps errors to ``error:`` lines and exit 2). ``test_cli_smoke.py`` runs the entry
+point as a process, once per command. Every command under test exists: a missing or renamed
+command fails here (click: "No such command" is exit 2 with the wrong message), it never skips.
 
 All data are invented for the test (see :mod:`malformed_cases`).
 """
@@ -22,17 +23,14 @@ All data are invented for the test (see :mod:`malformed_cases`).
 from __future__ import annotations
 
 import json
-import os
 import re
-import subprocess
-import sys
-from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass, replace
-from functools import cache
+import traceback
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import pytest
+from click.testing import CliRunner
 from malformed_cases import (
     SESSION_ID,
     STARTED,
@@ -75,11 +73,10 @@ from malformed_cases import (
     yaml_value,
 )
 
+from sedreport.cli import cli
+
 REPO_ROOT = Path(__file__).resolve().parents[1]
 COMMANDS = ("check", "episodes", "record")
-#: Commands of later stages; their variants are skipped while click reports "No such command".
-LATER_COMMANDS = ("episodes", "record")
-TIMEOUT_S = 300
 
 
 # ----- running the command line -----------------------------------------------------------------
@@ -92,22 +89,17 @@ class Run:
     stdout: str
     stderr: str
     out_dir_entries: tuple[str, ...] = ()
+    internal_error: str = ""
 
     def describe(self) -> str:
         return (
-            f"argv={' '.join(self.argv[2:])}\nexit={self.returncode}\n"
-            f"stderr={self.stderr!r}\nstdout={self.stdout[-2000:]!r}"
+            f"argv={' '.join(self.argv)}\nexit={self.returncode}\n"
+            f"stderr={self.stderr!r}\nstdout={self.stdout[-2000:]!r}\n{self.internal_error}"
         )
 
 
-def _env() -> dict[str, str]:
-    env = dict(os.environ)
-    env["PYTHONPATH"] = os.pathsep.join(filter(None, [str(REPO_ROOT), env.get("PYTHONPATH")]))
-    return env
-
-
 def _argv(command: str, folder: Path, out_pdf: Path, *extra: str) -> list[str]:
-    argv = [sys.executable, "-m", "sedreport.cli", command, str(folder)]
+    argv = [command, str(folder)]
     if command == "episodes":
         argv += ["--format", "json"]
     elif command == "record":
@@ -115,51 +107,23 @@ def _argv(command: str, folder: Path, out_pdf: Path, *extra: str) -> list[str]:
     return argv + list(extra)
 
 
-@cache
-def command_known(command: str) -> bool:
-    """False when click answers "No such command" (that stage is not written yet)."""
-    proc = subprocess.run(
-        [sys.executable, "-m", "sedreport.cli", command, "--help"],
-        capture_output=True,
-        text=True,
-        env=_env(),
-        timeout=TIMEOUT_S,
-    )
-    return "No such command" not in proc.stderr + proc.stdout
+def run_cli(argv: list[str], out_dir: Path | None = None) -> Run:
+    """Run ``sedreport ARGV`` in-process (stdout and stderr apart, click >= 8.2).
 
-
-def run_many(argvs: dict[str, list[str]], cwd: Path) -> dict[str, Run]:
-    """Start the given command lines at once (they are independent), wait for all."""
-    procs = {
-        key: subprocess.Popen(
-            argv,
-            stdout=subprocess.PIPE,
-            stderr=subprocess.PIPE,
-            env=_env(),
-            cwd=cwd,
-            text=True,
-            encoding="utf-8",
-            errors="replace",
-        )
-        for key, argv in argvs.items()
-    }
-    runs = {}
-    for key, proc in procs.items():
-        out, err = proc.communicate(timeout=TIMEOUT_S)
-        runs[key] = Run(tuple(argvs[key]), proc.returncode, out, err)
-    return runs
-
-
-def skip_if_unknown(command: str, run: Run | None = None) -> None:
-    """Skip when a command of a later stage does not exist yet (click: "No such command").
-
-    Only ``episodes`` and ``record`` may be absent; ``check`` belongs to the ingest work under
-    test and is never skipped.
+    An exception that escapes the click group (an internal failure, exit 1) is kept as its
+    formatted traceback for the failure message. ``out_dir``: its entries after the run.
     """
-    if command not in LATER_COMMANDS:
-        return
-    if not command_known(command) or (run is not None and "No such command" in run.stderr):
-        pytest.skip(f"`sedreport {command}` is not implemented yet (click: No such command)")
+    result = CliRunner().invoke(cli, argv)
+    internal = ""
+    if result.exc_info is not None and not isinstance(result.exception, SystemExit):
+        internal = "".join(traceback.format_exception(*result.exc_info))
+    entries = tuple(sorted(e.name for e in out_dir.iterdir())) if out_dir is not None else ()
+    return Run(tuple(argv), result.exit_code, result.stdout, result.stderr, entries, internal)
+
+
+def run_many(argvs: dict[str, list[str]]) -> dict[str, Run]:
+    """Run the given command lines one after the other."""
+    return {key: run_cli(argv) for key, argv in argvs.items()}
 
 
 # ----- expectations -----------------------------------------------------------------------------
@@ -390,68 +354,23 @@ CASES = [
 
 
 # ----- the malformed cases ----------------------------------------------------------------------
-def _run_one(argv: list[str], cwd: Path) -> Run:
-    proc = subprocess.run(
-        argv,
-        capture_output=True,
-        env=_env(),
-        cwd=cwd,
-        text=True,
-        encoding="utf-8",
-        errors="replace",
-        timeout=TIMEOUT_S,
-    )
-    return Run(tuple(argv), proc.returncode, proc.stdout, proc.stderr)
-
-
-def _wanted(session: pytest.Session) -> dict[tuple[str, str], Case]:
-    """(case id, command) -> case, for every collected case test of this pytest run."""
-    pairs = {}
-    for item in session.items:
-        params = getattr(getattr(item, "callspec", None), "params", {})
-        if isinstance(params.get("case"), Case) and "command" in params:
-            pairs[(params["case"].id, params["command"])] = params["case"]
-    return pairs
-
-
 @pytest.fixture(scope="module")
-def case_runs(
-    request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory
-) -> dict[tuple[str, str], Run]:
-    """Build every collected case's folder once and run its selected commands, in parallel.
-
-    Only the (case, command) pairs of collected tests run, so ``-m "not slow"`` or ``-k`` start
-    only the subprocesses they look at; commands of later stages that do not exist yet are left
-    out (their tests skip). One worker per CPU.
-    """
-    root = tmp_path_factory.mktemp("malformed")
-    folders: dict[str, Path] = {}
-    jobs: dict[tuple[str, str], list[str]] = {}
-    for (case_id, command), case in _wanted(request.session).items():
-        if command in LATER_COMMANDS and not command_known(command):
-            continue
-        if case_id not in folders:
-            parts = base_parts()
-            case.mutate(parts, root / case_id)
-            folders[case_id] = parts.write(root / case_id)
-            (root / case_id / "out").mkdir()
-        out_pdf = root / case_id / "out" / "record.pdf"
-        jobs[(case_id, command)] = _argv(command, folders[case_id], out_pdf)
-    with ThreadPoolExecutor(max_workers=os.cpu_count() or 2) as pool:
-        futures = {key: pool.submit(_run_one, argv, root / key[0]) for key, argv in jobs.items()}
-    runs = {key: future.result() for key, future in futures.items()}
-    for (case_id, command), run in runs.items():
-        if command == "record":
-            entries = tuple(sorted(e.name for e in (root / case_id / "out").iterdir()))
-            runs[(case_id, command)] = replace(run, out_dir_entries=entries)
-    return runs
+def case_root(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """One folder for every case of this module (each case's session is built once)."""
+    return tmp_path_factory.mktemp("malformed")
 
 
-def _case_run(case_runs: dict[tuple[str, str], Run], case: Case, command: str) -> Run:
-    skip_if_unknown(command)
-    run = case_runs[(case.id, command)]
-    skip_if_unknown(command, run)
-    return run
+def case_run(root: Path, case: Case, command: str) -> Run:
+    """Build the case's folder (once) and run ``command`` on it; ``record`` writes into a fresh
+    ``out-<command>`` folder whose entries the run reports."""
+    folder = root / case.id / SESSION_ID
+    if not folder.parent.is_dir():
+        parts = base_parts()
+        case.mutate(parts, root / case.id)
+        parts.write(root / case.id)
+    out_dir = root / case.id / f"out-{command}"
+    out_dir.mkdir()
+    return run_cli(_argv(command, folder, out_dir / "record.pdf"), out_dir)
 
 
 def assert_clean_error(run: Run, case: Case) -> None:
@@ -469,15 +388,10 @@ def assert_clean_error(run: Run, case: Case) -> None:
         assert any(re.search(p, line) for p in group), f"message names none of {group}\n{info}"
 
 
-@pytest.mark.parametrize(
-    "command",
-    [pytest.param(c, marks=[pytest.mark.slow] if c in LATER_COMMANDS else []) for c in COMMANDS],
-)
+@pytest.mark.parametrize("command", COMMANDS)
 @pytest.mark.parametrize("case", CASES, ids=[c.id for c in CASES])
-def test_malformed_session_gives_one_line_error(
-    case: Case, command: str, case_runs: dict[tuple[str, str], Run]
-) -> None:
-    run = _case_run(case_runs, case, command)
+def test_malformed_session_gives_one_line_error(case: Case, command: str, case_root: Path) -> None:
+    run = case_run(case_root, case, command)
     assert_clean_error(run, case)
     if command == "record":
         # DESIGN.md "Exit codes": never a partial output file left behind
@@ -533,10 +447,6 @@ def _write(parts: SessionParts, tmp_path: Path) -> Path:
     return folder
 
 
-def _run(argv: list[str], cwd: Path) -> Run:
-    return run_many({"x": argv}, cwd)["x"]
-
-
 def test_valid_base_session_checks(tmp_path: Path) -> None:
     """The base session loads (exit 0), as text and as JSON (issue 2 item 6)."""
     folder = _write(base_parts(), tmp_path)
@@ -544,8 +454,7 @@ def test_valid_base_session_checks(tmp_path: Path) -> None:
         {
             "text": _argv("check", folder, Path()),
             "json": _argv("check", folder, Path(), "--format", "json"),
-        },
-        tmp_path,
+        }
     )
     for run in runs.values():
         assert run.returncode == 0, run.describe()
@@ -557,10 +466,8 @@ def test_valid_base_session_checks(tmp_path: Path) -> None:
 
 def test_valid_base_session_episodes_json(tmp_path: Path) -> None:
     """DESIGN.md "Machine-readable outputs": the episodes JSON object and its top-level keys."""
-    skip_if_unknown("episodes")
     folder = _write(base_parts(), tmp_path)
-    run = _run(_argv("episodes", folder, Path()), tmp_path)
-    skip_if_unknown("episodes", run)
+    run = run_cli(_argv("episodes", folder, Path()))
     assert run.returncode == 0, run.describe()
     doc = json.loads(run.stdout)
     for key in ("session_id", "started", "criteria", "episodes", "summary", "quality"):
@@ -571,11 +478,9 @@ def test_valid_base_session_episodes_json(tmp_path: Path) -> None:
 
 def test_valid_base_session_record(tmp_path: Path) -> None:
     """DESIGN.md: `sedreport record SESSION -o FILE.pdf` writes the record."""
-    skip_if_unknown("record")
     folder = _write(base_parts(), tmp_path)
     out_pdf = tmp_path / "out" / "record.pdf"
-    run = _run(_argv("record", folder, out_pdf), tmp_path)
-    skip_if_unknown("record", run)
+    run = run_cli(_argv("record", folder, out_pdf))
     assert run.returncode == 0, run.describe()
     assert out_pdf.read_bytes()[:5] == b"%PDF-"
 
@@ -588,8 +493,7 @@ def test_co2_only_session_loads_with_warnings(tmp_path: Path) -> None:
         {
             "text": _argv("check", folder, Path()),
             "json": _argv("check", folder, Path(), "--format", "json"),
-        },
-        tmp_path,
+        }
     )
     for run in runs.values():
         assert run.returncode == 0, run.describe()
@@ -632,7 +536,7 @@ def test_boundary_values_load(tmp_path: Path) -> None:
         mutate(parts, tmp_path / name)
         folder = parts.write(tmp_path / name)
         argvs[name] = _argv("check", folder, Path())
-    runs = run_many(argvs, tmp_path)
+    runs = run_many(argvs)
     bad = {k: r.describe() for k, r in runs.items() if r.returncode != 0}
     assert not bad, bad
 
@@ -642,7 +546,7 @@ def test_unknown_key_is_warned_not_fatal(tmp_path: Path) -> None:
     parts = base_parts()
     set_field(parts, "ward_colour", "teal")
     folder = _write(parts, tmp_path)
-    run = _run(_argv("check", folder, Path()), tmp_path)
+    run = run_cli(_argv("check", folder, Path()))
     assert run.returncode == 0, run.describe()
     assert "ward_colour" in run.stdout + run.stderr, run.describe()
 
@@ -652,14 +556,14 @@ def test_gap_is_reported_not_bridged(tmp_path: Path) -> None:
     parts = base_parts()
     co2_gap(parts, tmp_path)
     folder = _write(parts, tmp_path)
-    run = _run(_argv("check", folder, Path(), "--format", "json"), tmp_path)
+    run = run_cli(_argv("check", folder, Path(), "--format", "json"))
     assert run.returncode == 0, run.describe()
     assert "gap" in (run.stdout + run.stderr).lower(), run.describe()
 
 
 def test_missing_folder_is_bad_input(tmp_path: Path) -> None:
     """DESIGN.md "Exit codes": a session folder that does not exist is bad input (exit 2)."""
-    run = _run(_argv("check", tmp_path / SESSION_ID, Path()), tmp_path)
+    run = run_cli(_argv("check", tmp_path / SESSION_ID, Path()))
     assert_clean_error(run, Case("missing_folder", no_yaml, ()))
 
 
@@ -673,7 +577,7 @@ def test_truncated_edf_fails_cleanly_or_warns(tmp_path: Path) -> None:
     parts = base_parts()
     co2_edf_truncated(parts, tmp_path)
     folder = _write(parts, tmp_path)
-    run = _run(_argv("check", folder, Path()), tmp_path)
+    run = run_cli(_argv("check", folder, Path()))
     if run.returncode == 2:
         assert_clean_error(run, Case("co2_edf_truncated", co2_edf_truncated, (names("rec.edf"),)))
     else:
@@ -706,18 +610,15 @@ CRITERIA_CASES = [
 ]
 
 
-@pytest.mark.slow
 @pytest.mark.parametrize("command", COMMANDS)
 @pytest.mark.parametrize("case", CRITERIA_CASES, ids=[c.id for c in CRITERIA_CASES])
-def test_bad_criteria_reference(
-    case: Case, command: str, case_runs: dict[tuple[str, str], Run]
-) -> None:
+def test_bad_criteria_reference(case: Case, command: str, case_root: Path) -> None:
     """A bad ``criteria:`` entry: `episodes` and `record` must stop with exit 2 naming it.
 
     `check` may not read the criteria at all (the contract does not say), so it may exit 0;
     if it does reject them, the error must be as clean as any other.
     """
-    run = _case_run(case_runs, case, command)
+    run = case_run(case_root, case, command)
     if command == "check" and run.returncode == 0:
         return
     assert_clean_error(run, case)
@@ -739,8 +640,8 @@ def test_check_many_sessions_one_line_per_error(tmp_path: Path) -> None:
         if mutate is not None:
             mutate(parts, tmp_path)
         folders.append(str(parts.write(tmp_path, name=name)))
-    argv = [sys.executable, "-m", "sedreport.cli", "check", *folders]
-    run = _run(argv, tmp_path)
+    argv = ["check", *folders]
+    run = run_cli(argv)
     assert "Traceback" not in run.stderr + run.stdout, run.describe()
     assert run.returncode == 2, run.describe()
     lines = run.stderr.splitlines()

@@ -6,13 +6,14 @@ import json
 import os
 import shutil
 import subprocess
-import sys
 from pathlib import Path
 
 import pytest
 import record_fixtures as rf
+from click.testing import CliRunner, Result
 from record_pdf import norm, page_texts
 
+from sedreport.cli import cli
 from sedreport.errors import SedreportError
 from sedreport.render import record as record_module
 from sedreport.render.record import render_record
@@ -108,7 +109,10 @@ def test_unknown_paper(analysis, tmp_path):
     assert list(tmp_path.iterdir()) == []
 
 
-@pytest.mark.skipif(shutil.which("pdftoppm") is None, reason="pdftoppm (poppler) not installed")
+@pytest.mark.skipif(
+    shutil.which("pdftoppm") is None,
+    reason="pdftoppm (poppler-utils) is an optional system tool and is not installed here",
+)
 def test_pages_render_to_png(analysis, tmp_path):
     """poppler's pdftoppm renders every page; each greyscale page has ink on it."""
     from PIL import Image
@@ -128,24 +132,17 @@ def test_pages_render_to_png(analysis, tmp_path):
         assert hi == 255 and lo < 100
 
 
-def _run_cli(*args: str, cwd: Path) -> subprocess.CompletedProcess:
-    env = dict(os.environ, PYTHONPATH=str(REPO))
-    return subprocess.run(
-        [sys.executable, "-m", "sedreport.cli", *args],
-        cwd=cwd,
-        env=env,
-        capture_output=True,
-        text=True,
-        timeout=120,
-    )
+def _run_cli(*args: str) -> Result:
+    """``sedreport ARGS`` in-process (click's test runner; stderr kept apart)."""
+    return CliRunner().invoke(cli, list(args))
 
 
 def test_cli_malformed_session_exit_2_no_pdf(tmp_path):
     folder = tmp_path / "BAD-1"
     folder.mkdir()
     (folder / "session.yaml").write_text("format: sedreport-session/1\nsession_id: [oops\n")
-    proc = _run_cli("record", str(folder), "-o", str(tmp_path / "bad.pdf"), cwd=tmp_path)
-    assert proc.returncode == 2
+    proc = _run_cli("record", str(folder), "-o", str(tmp_path / "bad.pdf"))
+    assert proc.exit_code == 2
     lines = proc.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("error: ")
     assert "Traceback" not in proc.stderr
@@ -159,32 +156,23 @@ def test_cli_bad_criteria_file_exit_2_no_pdf(tmp_path):
     bad.write_text("format: sedreport-criteria/1\napnoea: {min_duration_s: 3}\n")
     out = tmp_path / "rec.pdf"
     proc = _run_cli(
-        "record",
-        str(folder),
-        "-o",
-        str(out),
-        "--criteria",
-        str(bad),
-        "--paper",
-        "letter",
-        cwd=tmp_path,
+        "record", str(folder), "-o", str(out), "--criteria", str(bad), "--paper", "letter"
     )
-    assert proc.returncode == 2, proc.stderr
+    assert proc.exit_code == 2, proc.stderr
     assert proc.stderr.startswith("error: ") and len(proc.stderr.strip().splitlines()) == 1
     assert "bad_criteria.yaml" in proc.stderr
     assert not out.exists()
 
 
 def test_cli_missing_session_exit_2(tmp_path):
-    proc = _run_cli("record", str(tmp_path / "absent"), "-o", str(tmp_path / "x.pdf"), cwd=tmp_path)
-    assert proc.returncode == 2 and proc.stderr.startswith("error: ")
+    proc = _run_cli("record", str(tmp_path / "absent"), "-o", str(tmp_path / "x.pdf"))
+    assert proc.exit_code == 2 and proc.stderr.startswith("error: ")
     assert not (tmp_path / "x.pdf").exists()
 
 
 def _demo_session(tmp_path: Path, name: str) -> Path:
-    demo = pytest.importorskip("sedreport.demo")
-    if name not in getattr(demo, "SCENARIOS", {}):
-        pytest.skip(f"demo scenario {name} not available")
+    from sedreport import demo
+
     return demo.write_scenario(tmp_path / "demo", name, 0)
 
 
@@ -193,8 +181,8 @@ def test_cli_record_on_demo_scenario_end_to_end(tmp_path):
     episode of the JSON appears in the PDF's episode table with its start clock time."""
     folder = _demo_session(tmp_path, "upper_gi_apnoea")
     out, js = tmp_path / "rec.pdf", tmp_path / "rec.json"
-    proc = _run_cli("record", str(folder), "-o", str(out), "--json", str(js), cwd=tmp_path)
-    assert proc.returncode == 0, proc.stderr
+    proc = _run_cli("record", str(folder), "-o", str(out), "--json", str(js))
+    assert proc.exit_code == 0, proc.stderr
     data = json.loads(js.read_text())
     # the same text as `sedreport episodes --format json`
     from sedreport.analysis import analyse_session

@@ -16,6 +16,7 @@ from sedreport.ingest.streams import (
     ReadContext,
     check_increasing,
     check_range,
+    check_waveform_rate,
     median_rate_hz,
 )
 from sedreport.ingest.times import csv_source_info, parse_times, table_notes
@@ -52,6 +53,7 @@ def read_co2_csv(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
         warnings.append(msg)
     t = times.time_s[keep]
     rate = median_rate_hz(t, table.at)
+    check_waveform_rate(rate, table.where)
     info = csv_source_info(
         "co2",
         raw,

@@ -20,6 +20,7 @@ from sedreport.ingest.streams import (
     Loaded,
     ReadContext,
     check_range,
+    check_waveform_rate,
     median_rate_hz,
 )
 from sedreport.ingest.times import edf_start_seconds
@@ -62,6 +63,7 @@ def read_co2_signal(sig_file: SignalFile, spec: SourceSpec, ctx: ReadContext, re
     """Capnogram from one channel of a recording; invalid (NaN) samples dropped and counted."""
     where = f"{ctx.session}/{rel}"
     sig = sig_file.pick(spec.channel, where, "sources.co2.channel")
+    check_waveform_rate(sig.fs_hz, f"{where}:channel {sig.label}")
     t0_s, warnings = _start_s(sig_file, spec, ctx)
     unit = _co2_unit(sig, spec, warnings)
     mmhg, conversion = co2_to_mmhg(sig.data, unit, ctx.barometric_mmHg)

@@ -23,6 +23,12 @@ from sedreport.session import QualityFinding, SourceInfo
 CO2_LIMITS_MMHG = (-5.0, 150.0)
 SPO2_LIMITS_PCT = (0.0, 100.0)
 PULSE_LIMITS_BPM = (0.0, 300.0)
+#: Slowest CO2 sampling that is a waveform, Hz: DESIGN.md "The session folder" gives the
+#: capnogram as uniformly sampled at 10-200 Hz; slower files (a median step longer than 0.1 s)
+#: are end-tidal trends and are refused. Above 200 Hz is only a warning (see ``quality``).
+MIN_CO2_RATE_HZ = 10.0
+#: Relative slack on that limit, so 10 Hz written with rounded times (0.1, 0.2...) passes.
+_RATE_SLACK = 1e-6
 
 
 def check_increasing(time_s: np.ndarray, locate: Callable[[int], str]) -> None:
@@ -91,6 +97,34 @@ def median_rate_hz(time_s: np.ndarray, locate: Callable[[int], str]) -> float:
     if time_s.size < 2:
         raise SessionError(locate(0), f"only {time_s.size} sample; a stream needs at least 2")
     return float(1.0 / np.median(np.diff(time_s)))
+
+
+def check_waveform_rate(rate_hz: float, where: str) -> None:
+    """Refuse a capnogram sampled below :data:`MIN_CO2_RATE_HZ` (an EtCO2 trend, not a wave).
+
+    Parameters
+    ----------
+    rate_hz : float
+        Sample rate, Hz (1 / median step of a CSV; the header's rate of an EDF/WFDB channel).
+    where : str
+        ``<session>/<file>`` (and channel) for the message.
+
+    Examples
+    --------
+    >>> check_waveform_rate(25.0, "ENDO-1/co2.csv")
+    >>> try:
+    ...     check_waveform_rate(1.0, "ENDO-1/co2.csv")
+    ... except SessionError as exc:
+    ...     print(exc)
+    ENDO-1/co2.csv: 1.0 Hz — this looks like an EtCO2 trend, not a capnogram; a waveform needs >= 10 Hz
+    """
+    if rate_hz < MIN_CO2_RATE_HZ * (1.0 - _RATE_SLACK):
+        shown = f"{rate_hz:.1f}" if rate_hz >= 0.1 else f"{rate_hz:.2g}"
+        raise SessionError(
+            where,
+            f"{shown} Hz — this looks like an EtCO2 trend, not a capnogram; "
+            f"a waveform needs >= {MIN_CO2_RATE_HZ:g} Hz",
+        )
 
 
 @dataclass(frozen=True)

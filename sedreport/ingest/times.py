@@ -1,9 +1,10 @@
 """Time columns onto the session clock.
 
 A file's times are either all numbers (seconds since ``started``) or all ISO 8601 timestamps;
-mixing the two is an error naming the first line of the other style. A timestamp with an offset
-(``+01:00``, ``Z``) is exact; a naive one is read as wall-clock time in ``started``'s offset,
-reported with a ``naive_time`` finding. ``clock_offset_s`` is then added (DESIGN.md: a monitor
+mixing the two is an error naming the first line of the other style. ISO timestamps are either
+all with a UTC offset (``+01:00``, ``Z``: exact) or all without one (read as wall-clock time in
+``started``'s offset, reported with a ``naive_time`` finding); mixing those two is an error too,
+naming the first line of the second style. ``clock_offset_s`` is then added (DESIGN.md: a monitor
 whose clock runs 4 s fast has -4).
 """
 
@@ -112,6 +113,7 @@ def _iso_to_seconds(
 ) -> tuple[np.ndarray, np.ndarray]:
     """ISO strings to seconds since ``started``; naive ones in ``started``'s offset."""
     has_offset = _by_unique(text.str.slice(-7), lambda u: _OFFSET.search(u) is not None)
+    _check_one_offset_style(table, text, has_offset)
     seconds = np.full(len(text), np.nan)
     if has_offset.any():
         aware = pd.to_datetime(text[has_offset], format="ISO8601", utc=True, errors="coerce")
@@ -137,6 +139,22 @@ def _iso_to_seconds(
             table.at(row), f"time {text.iloc[row]!r} is not a valid ISO 8601 timestamp"
         )
     return seconds, naive
+
+
+def _check_one_offset_style(table: CsvTable, text: pd.Series, has_offset: np.ndarray) -> None:
+    """Refuse ISO times with and without a UTC offset in one file (first row sets the style)."""
+    other = has_offset != has_offset[0]
+    if not other.any():
+        return
+    row = int(np.argmax(other))
+    first = f"line {table.lines[0]} ({text.iloc[0]!r})"
+    what = "has no UTC offset but" if has_offset[0] else "has a UTC offset but"
+    whose = "has one" if has_offset[0] else "has none"
+    raise SessionError(
+        table.at(row),
+        f"mixed time styles: {text.iloc[row]!r} {what} {first} {whose}; "
+        "write every time of a file with an offset or every time without",
+    )
 
 
 def edf_start_seconds(file_start: datetime, started: datetime) -> float:
