@@ -102,11 +102,13 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
 
     Examples
     --------
+    >>> import tempfile
     >>> import sedreport
-    >>> session = sedreport.load_session(sedreport.EXAMPLES_DIR / "DEMO-UGI-02")
-    >>> analysis = sedreport.analyse_session(session)
-    >>> [e.kind for e in analysis.episodes][:2]
-    ['apnoea', 'desaturation']
+    >>> from sedreport.demo import write_scenario
+    >>> folder = write_scenario(tempfile.mkdtemp(), "upper_gi_apnoea", seed=0)  # invented
+    >>> analysis = sedreport.analyse_session(sedreport.load_session(folder))
+    >>> [(e.kind, round(e.duration_s)) for e in analysis.episodes]
+    [('apnoea', 39)]
     >>> analysis.quality.co2_gap_s, analysis.criteria.name
     (1.0, 'default')
     """

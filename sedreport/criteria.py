@@ -273,6 +273,14 @@ def load_criteria(path: str | Path | None = None) -> Criteria:
     ------
     CriteriaError
         When the file is missing, not YAML, or has a wrong, unknown or inconsistent key.
+
+    Examples
+    --------
+    >>> crit = load_criteria()  # the shipped default.yaml
+    >>> crit.apnoea.min_duration_s, crit.desaturation.spo2_below_pct
+    (15.0, 90.0)
+    >>> crit.item("apnoea.min_duration_s").source.split(";")[0]
+    'Deitch et al., Ann Emerg Med 2010'
     """
     file = DEFAULT_CRITERIA_FILE if path is None else Path(path)
     where = _display_path(file)

@@ -93,7 +93,7 @@ def find_breaths(
     >>> co2 = np.where((t % 4.0) < 2.0, 38.0, 0.5)      # 15 breaths a minute, square waves
     >>> breaths = find_breaths(Capnogram(t, co2, 25.0))
     >>> len(breaths), round(float(np.nanmedian(breaths.rr_per_min)), 1)
-    (7, 15.0)
+    (8, 15.0)
     """
     _check_capnogram(capnogram)
     if gap_s is None:

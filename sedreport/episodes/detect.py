@@ -63,6 +63,19 @@ def detect_episodes(
     baseline : Baseline
     criteria : Criteria
         Every threshold used comes from here.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from sedreport import compute_trends, estimate_baseline, find_breaths, load_session
+    >>> from sedreport.criteria import load_criteria
+    >>> from sedreport.demo import write_scenario
+    >>> folder = write_scenario(tempfile.mkdtemp(), "upper_gi_apnoea", seed=0)  # invented
+    >>> s, crit = load_session(folder), load_criteria()
+    >>> b = find_breaths(s.co2, gap_s=crit.signal_loss.co2_gap_s)
+    >>> eps = detect_episodes(s, b, compute_trends(s, b), estimate_baseline(s, b), crit)
+    >>> [(e.id, e.kind, e.start_time[11:19]) for e in eps]
+    [('E1', 'apnoea', '14:35:12')]
     """
     findings = find_findings(session, breaths, trends, baseline, criteria)
     return tuple(

@@ -55,6 +55,15 @@ def load_session(folder: str | Path) -> Session:
     SessionError
         The first problem found, located as ``<session>/<file>:<line>`` or
         ``<session>/session.yaml:<field>``.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from sedreport.demo import write_scenario
+    >>> folder = write_scenario(tempfile.mkdtemp(), "quiet_colonoscopy", seed=0)  # invented
+    >>> session = load_session(folder)
+    >>> session.session_id, round(session.co2.sample_rate_hz), session.source("co2").units_in
+    ('DEMO-COLON-01', 50, 'mmHg')
     """
     folder = Path(folder)
     name = folder.resolve().name or str(folder)

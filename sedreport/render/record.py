@@ -187,6 +187,19 @@ def render_record(
     -----
     With ``SOURCE_DATE_EPOCH`` set, the PDF's dates come from it and its document id is fixed,
     so the same inputs give byte-identical files (reproducible-builds.org convention).
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from pathlib import Path
+    >>> import sedreport
+    >>> from sedreport.demo import write_scenario
+    >>> out = Path(tempfile.mkdtemp())
+    >>> folder = write_scenario(out, "upper_gi_apnoea", seed=0)  # invented case
+    >>> analysis = sedreport.analyse_session(sedreport.load_session(folder))
+    >>> pdf = render_record(analysis, out / "record.pdf")
+    >>> pdf.name, pdf.read_bytes()[:5]
+    ('record.pdf', b'%PDF-')
     """
     width_pt = styles.frame_width(paper)
     epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip() or None
