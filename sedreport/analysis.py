@@ -16,11 +16,10 @@ import numpy as np
 
 from sedreport.capnography import compute_trends, estimate_baseline, find_breaths
 from sedreport.capnography.model import Baseline, BreathTable, Trends
-from sedreport.criteria import Criteria, load_criteria
+from sedreport.criteria import Criteria, resolve_criteria
 from sedreport.episodes.detect import detect_episodes
 from sedreport.episodes.model import Episode
 from sedreport.episodes.summary import Quality, Summary, summarise_quality, summarise_session
-from sedreport.errors import SessionError
 from sedreport.session import Session
 
 #: Trailing window of the respiratory-rate trend, seconds (common practice: rate per minute).
@@ -57,26 +56,6 @@ class Analysis:
     episodes: tuple[Episode, ...]
     summary: Summary
     quality: Quality
-
-
-def resolve_criteria(session: Session, criteria: Criteria | str | Path | None) -> Criteria:
-    """The criteria to use: the argument, else the session's own file, else ``default.yaml``.
-
-    A relative ``criteria:`` path in ``session.yaml`` is taken inside the session folder.
-    """
-    if isinstance(criteria, Criteria):
-        return criteria
-    if criteria is not None:
-        return load_criteria(criteria)
-    if session.criteria_file:
-        path = Path(session.criteria_file)
-        if not path.is_absolute() and session.folder is None:
-            raise SessionError(
-                f"{session.session_id}:criteria_file",
-                f"relative criteria path {str(path)!r} needs the session's folder",
-            )
-        return load_criteria(path if path.is_absolute() else session.folder / path)
-    return load_criteria(None)
 
 
 def empty_breaths() -> BreathTable:
@@ -122,24 +101,3 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
     quality = summarise_quality(session, breaths, trends, baseline, crit)
     summary = summarise_session(session, breaths, trends, episodes, crit, quality)
     return Analysis(session, crit, breaths, trends, baseline, episodes, summary, quality)
-
-
-def breaths_of_session(
-    session: Session, criteria: Criteria | str | Path | None = None
-) -> tuple[BreathTable, Criteria]:
-    """The breaths of a session's capnogram under the criteria's gap rule, and the criteria.
-
-    Raises
-    ------
-    SessionError
-        When the session has no CO2 stream.
-    CriteriaError
-        When the criteria file is malformed.
-    """
-    crit = resolve_criteria(session, criteria)
-    if session.co2 is None:
-        raise SessionError(
-            f"{session.session_id}/session.yaml:sources.co2",
-            "no CO2 stream given, so there are no breaths to find",
-        )
-    return find_breaths(session.co2, gap_s=crit.signal_loss.co2_gap_s), crit

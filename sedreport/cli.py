@@ -133,7 +133,7 @@ def check_command(sessions: tuple[str, ...], fmt: str, criteria_path: str | None
     the recorded files only; it is not an alarm or a diagnosis, and says nothing about the
     patient's condition.
     """
-    from sedreport.analysis import resolve_criteria
+    from sedreport.criteria import resolve_criteria
     from sedreport.ingest.load import load_sessions
     from sedreport.ingest.quality import stderr_warnings
     from sedreport.render.json_text import check_json, describe_session
@@ -208,7 +208,7 @@ def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
     This documents and reviews recorded data; it is not an alarm or a diagnosis. Clinical
     observation comes first; local sedation policy and licensed practice decide.
     """
-    from sedreport.analysis import breaths_of_session
+    from sedreport.capnography.breaths import breaths_of_session
     from sedreport.render.stdout import breaths_text
 
     loaded = _load(session)

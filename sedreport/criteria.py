@@ -17,7 +17,8 @@ from pathlib import Path
 
 import yaml
 
-from sedreport.errors import CriteriaError
+from sedreport.errors import CriteriaError, SessionError
+from sedreport.session import Session
 
 CRITERIA_FORMAT = "sedreport-criteria/1"
 #: Folder of the criteria files shipped with the package.
@@ -395,3 +396,23 @@ def _read_entry(where: str, section: str, name: str, entry: object, spec: _Spec)
 def list_criteria_files() -> tuple[Path, ...]:
     """The criteria files shipped with the package, sorted by name."""
     return tuple(sorted(CRITERIA_DIR.glob("*.yaml")))
+
+
+def resolve_criteria(session: Session, criteria: Criteria | str | Path | None) -> Criteria:
+    """The criteria to use: the argument, else the session's own file, else ``default.yaml``.
+
+    A relative ``criteria:`` path in ``session.yaml`` is taken inside the session folder.
+    """
+    if isinstance(criteria, Criteria):
+        return criteria
+    if criteria is not None:
+        return load_criteria(criteria)
+    if session.criteria_file:
+        path = Path(session.criteria_file)
+        if not path.is_absolute() and session.folder is None:
+            raise SessionError(
+                f"{session.session_id}:criteria_file",
+                f"relative criteria path {str(path)!r} needs the session's folder",
+            )
+        return load_criteria(path if path.is_absolute() else session.folder / path)
+    return load_criteria(None)

@@ -321,3 +321,20 @@ def test_subnormal_values_give_no_warning():
     cap = Capnogram(np.arange(x.size) / 10.0, x, 10.0)
     table = find_breaths(cap)
     assert len(table) == table.start_s.size
+
+
+@pytest.mark.parametrize("n", [1, 2, 3, 57, 1000])
+@pytest.mark.parametrize("size", [1, 2, 3, 4, 15, 31])
+def test_running_filters_equal_scipy_ndimage(n, size):
+    # Reference library: scipy.ndimage (Virtanen et al., Nat Methods 2020), mode="nearest".
+    from scipy.ndimage import percentile_filter, uniform_filter1d
+
+    from sedreport.capnography._filters import moving_mean, running_percentile
+
+    x = np.random.default_rng(n * 100 + size).normal(20.0, 10.0, n)
+    np.testing.assert_allclose(
+        moving_mean(x, size), uniform_filter1d(x, size=size, mode="nearest"), atol=1e-9, rtol=0
+    )
+    for pct in (0.0, 10.0, 50.0, 80.0, 100.0):
+        got = running_percentile(x, pct, size)
+        assert np.array_equal(got, percentile_filter(x, pct, size=size, mode="nearest"))

@@ -15,15 +15,17 @@ reviewed; none of this is an alarm.
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 
 from sedreport.capnography.cycles import DEFAULT_SETTINGS, DetectionSettings, find_cycles
 from sedreport.capnography.metrics import measure_breaths
 from sedreport.capnography.model import BreathTable
-from sedreport.criteria import default_criteria
+from sedreport.criteria import Criteria, default_criteria, resolve_criteria
 from sedreport.errors import SessionError
-from sedreport.session import Capnogram
+from sedreport.session import Capnogram, Session
 
 #: Leading columns of :func:`breaths_to_frame`, the CSV contract of DESIGN.md.
 CONTRACT_COLUMNS: tuple[str, ...] = (
@@ -88,7 +90,7 @@ def find_breaths(
     Examples
     --------
     >>> import numpy as np
-    >>> from sedreport.session import Capnogram
+    >>> from sedreport.session import Capnogram, Session
     >>> t = np.arange(0, 30, 0.04)                       # 30 s at 25 Hz
     >>> co2 = np.where((t % 4.0) < 2.0, 38.0, 0.5)      # 15 breaths a minute, square waves
     >>> breaths = find_breaths(Capnogram(t, co2, 25.0))
@@ -126,3 +128,24 @@ def breaths_to_frame(breaths: BreathTable) -> pd.DataFrame:
             "reason": list(breaths.reason),
         }
     )
+
+
+def breaths_of_session(
+    session: Session, criteria: Criteria | str | Path | None = None
+) -> tuple[BreathTable, Criteria]:
+    """The breaths of a session's capnogram under the criteria's gap rule, and the criteria.
+
+    Raises
+    ------
+    SessionError
+        When the session has no CO2 stream.
+    CriteriaError
+        When the criteria file is malformed.
+    """
+    crit = resolve_criteria(session, criteria)
+    if session.co2 is None:
+        raise SessionError(
+            f"{session.session_id}/session.yaml:sources.co2",
+            "no CO2 stream given, so there are no breaths to find",
+        )
+    return find_breaths(session.co2, gap_s=crit.signal_loss.co2_gap_s), crit

@@ -28,8 +28,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.ndimage import percentile_filter, uniform_filter1d
 
+from sedreport.capnography._filters import moving_mean, running_percentile
 from sedreport.session import Capnogram
 
 
@@ -148,7 +148,7 @@ def smooth(co2_mmHg: np.ndarray, fs_hz: float, settings: DetectionSettings) -> n
     width = max(1, int(round(settings.smooth_s * fs_hz)))
     if width == 1 or co2_mmHg.size < 2:
         return co2_mmHg.astype(float, copy=True)
-    return uniform_filter1d(co2_mmHg.astype(float), size=width, mode="nearest")
+    return moving_mean(co2_mmHg, width)
 
 
 def _levels(t: np.ndarray, x: np.ndarray, fs_hz: float, s: DetectionSettings):
@@ -160,8 +160,8 @@ def _levels(t: np.ndarray, x: np.ndarray, fs_hz: float, s: DetectionSettings):
     bmin = np.minimum.reduceat(x, starts)
     size = max(1, int(round(s.level_window_s / s.block_s)))
     size = min(size | 1, (starts.size | 1))
-    plateau = percentile_filter(bmax, s.plateau_pct, size=size, mode="nearest")
-    base = percentile_filter(bmin, s.baseline_pct, size=size, mode="nearest")
+    plateau = running_percentile(bmax, s.plateau_pct, size)
+    base = running_percentile(bmin, s.baseline_pct, size)
     centre = np.minimum(starts + blk // 2, n - 1)
     amp = np.clip(plateau - base, 0.0, None)
     high_b = base + np.maximum(s.high_frac * amp, s.high_floor_mmHg)

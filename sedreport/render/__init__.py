@@ -1,8 +1,6 @@
-"""Rendering stage: reportlab vector PDFs from an Analysis (no detection knowledge here).
+"""Rendering stage: every output form of an Analysis, and nothing about detection.
 
-Public API: :func:`render_record` writes the PDF sedation record of one analysed session.
+PDF record: :func:`sedreport.render.record.render_record` (also ``sedreport.render_record``);
+JSON, CSV and terminal text: :mod:`.json_text`, :mod:`.csv_text`, :mod:`.terminal`, chosen per
+command in :mod:`.stdout`. Nothing is imported here, so the text outputs never load reportlab.
 """
-
-from sedreport.render.record import render_record
-
-__all__ = ["render_record"]
