@@ -42,6 +42,8 @@ class Patient:
     height_cm: float | None = None
     asa_class: int | None = None
     conditions: tuple[str, ...] = ()
+    #: The patient's own SpO2 target range (low, high) in %, when ``session.yaml`` sets one.
+    spo2_target_pct: tuple[float, float] | None = None
 
 
 @dataclass(frozen=True)
@@ -58,6 +60,25 @@ class Oxygen:
 
     device: str | None = None
     flow_l_min: float | None = None
+
+
+@dataclass(frozen=True)
+class BloodGas:
+    """A blood gas taken at the visit (``session.yaml`` ``blood_gas``).
+
+    Attributes
+    ----------
+    pco2_mmHg : float
+        Carbon dioxide partial pressure, mmHg (converted once from kPa when given in kPa).
+    sample : str
+        ``arterial`` or ``capillary`` (arterialised earlobe capillary sample).
+    time_s : float | None
+        When it was taken, seconds on the session clock (None when not recorded).
+    """
+
+    pco2_mmHg: float
+    sample: str
+    time_s: float | None = None
 
 
 @dataclass(frozen=True)
@@ -228,6 +249,7 @@ class Session:
     oxygen: Oxygen = field(default_factory=Oxygen)
     barometric_mmHg: float = 760.0
     criteria_file: str | None = None
+    blood_gas: BloodGas | None = None
     co2: Capnogram | None = None
     spo2: OximetryTrend | None = None
     doses: tuple[Dose, ...] = ()
