@@ -13,6 +13,8 @@ write_examples(outdir, seed=0) -> list of Path
     Every scenario plus a README (this is what ``example_sessions/`` holds).
 write_cohort(outdir, n, seed=0, recipe=None) -> list of Path
     ``n`` varied sessions drawn from a YAML recipe.
+write_visits(outdir, seed=0) -> list of Path
+    Invented COPD clinic visits of one patient (what ``example_visits/`` holds).
 load_truth(path) -> dict
 """
 
@@ -37,6 +39,7 @@ __all__ = [
     "write_cohort",
     "write_examples",
     "write_scenario",
+    "write_visits",
 ]
 
 
@@ -93,3 +96,10 @@ def write_cohort(
     from sedreport.demo.cohort import write_cohort as _write_cohort
 
     return _write_cohort(outdir, n, seed=seed, recipe=recipe, jobs=jobs)
+
+
+def write_visits(outdir: str | Path, seed: int = 0) -> list[Path]:
+    """Write the invented COPD clinic visits and their README; returns the visit folders."""
+    from sedreport.demo.visits import write_visits as _write_visits
+
+    return _write_visits(outdir, seed=seed)
