@@ -30,7 +30,7 @@ def test_example_visits_small_documented_and_loadable():
     assert total < 1_500_000
     readme = (EXAMPLES / "README.md").read_text()
     assert "invented" in readme and "sedreport demo example_visits --visits --seed 0" in readme
-    assert "sedreport trend example_visits/DEMO-COPD-V*" in readme
+    assert "sedreport trend example_visits/DEMO-COPD-V*/ -o trend.pdf" in readme
     refs = set()
     for folder in sorted(p for p in EXAMPLES.iterdir() if p.is_dir()):
         s = load_session(folder)

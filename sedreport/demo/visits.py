@@ -175,7 +175,7 @@ def readme_text(seed: int, n: int) -> str:
         "Made with\n\n"
         f"    sedreport demo example_visits --visits --seed {seed}\n\n"
         "and a test regenerates them and compares the bytes. Try\n\n"
-        "    sedreport trend example_visits/DEMO-COPD-V* -o trend.pdf --csv trend.csv\n\n"
+        "    sedreport trend example_visits/DEMO-COPD-V*/ -o trend.pdf --csv trend.csv\n\n"
         "sedreport documents and reviews recorded data; it is not an alarm or a diagnosis.\n\n"
         "| session | date | oxygen | notes |\n|---|---|---|---|\n" + "\n".join(rows) + "\n"
     )

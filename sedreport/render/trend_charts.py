@@ -93,7 +93,9 @@ def _oxygen_marks(panel: Panel, trend: Trend, days: np.ndarray) -> Group:
                 strokeDashArray=[2, 1.5],
             )
         )
-        g.add(label(x + 1.5, panel.y + panel.height - 6, "O2", 5.2, bold=True, color=styles.AXIS))
+        flow = trend.visits[m.visit].flow_l_min
+        text = "O2" if flow is None else f"O2 {flow:g}"
+        g.add(label(x + 1.5, panel.y + panel.height - 6, text, 5.2, bold=True, color=styles.AXIS))
     return g
 
 
@@ -268,9 +270,16 @@ def visit_shade(k: int, n: int) -> styles.SeriesStyle:
     return styles.SeriesStyle(color, 1.5 if k == n - 1 else 1.0, dash)
 
 
-def breath_overlay(trend: Trend, width_pt: float, height_pt: float, normalised: bool) -> Drawing:
+def breath_overlay(
+    trend: Trend,
+    width_pt: float,
+    height_pt: float,
+    normalised: bool,
+    span_s: tuple[float, float] | None = None,
+) -> Drawing:
     """Averaged breath of every visit overlaid (CO2 in mmHg, or as a fraction of each visit's
-    median EtCO2 so the shape can be compared when the level differs)."""
+    median EtCO2 so the shape can be compared when the level differs); ``span_s`` zooms the
+    time axis (seconds from the upstroke start)."""
     d = Drawing(width_pt, height_pt)
     curves = []
     for v in trend.visits:
@@ -280,29 +289,33 @@ def breath_overlay(trend: Trend, width_pt: float, height_pt: float, normalised: 
     t_hi = max((float(t[-1]) for t, _ in curves if t.size), default=3.0)
     y_hi = max((float(np.nanmax(y)) for _, y in curves if np.isfinite(y).any()), default=1.0)
     y0, y1, ticks = _nice_range(0.0, y_hi)
+    t_lo, t_hi = span_s if span_s is not None else (-0.3, t_hi)
     p = Panel(
         _LEFT_PT,
         _BOTTOM_PT,
         width_pt - _LEFT_PT - _RIGHT_PT,
         height_pt - _BOTTOM_PT - _TOP_PT,
-        -0.3,
+        t_lo,
         t_hi,
         y0,
         y1,
     )
     title = "CO2 / visit's median EtCO2" if normalised else "CO2 (mmHg)"
+    if span_s is not None:
+        title += f", first {t_hi:g} s: upstroke (phase II) and start of the plateau"
     d.add(label(p.x, height_pt - 9, title, 7.2, bold=True))
     d.add(value_axis(p, ticks))
     d.add(frame_box(p))
-    for s in np.arange(0.0, t_hi + 1e-9, 0.5):
+    step = 0.5 if t_hi - t_lo > 2.0 else 0.1
+    for s in np.arange(0.0, t_hi + 1e-9, step):
         x = float(p.tx(s))
         d.add(Line(x, p.y, x, p.y - 2, strokeColor=styles.AXIS, strokeWidth=0.4))
-        d.add(label(x, p.y - 8, f"{s:g}", 5.6, "middle"))
+        d.add(label(x, p.y - 8, f"{round(s, 2):g}", 5.6, "middle"))
     d.add(label(p.x + p.width, p.y - 15.5, "seconds from the start of the upstroke", 5.6, "end"))
     n = len(curves)
     for k, (t, y) in enumerate(curves):
         st = visit_shade(k, n)
-        ok = np.isfinite(y)
+        ok = np.isfinite(y) & (t >= t_lo) & (t <= t_hi)
         pts = np.column_stack([p.tx(t[ok]), p.vy(y[ok])]).ravel().tolist()
         if len(pts) >= 4:
             d.add(
@@ -313,6 +326,9 @@ def breath_overlay(trend: Trend, width_pt: float, height_pt: float, normalised: 
                     strokeDashArray=list(st.dash) if st.dash else None,
                 )
             )
+        if span_s is None and k in (0, n - 1) and ok.any():
+            j = int(np.argmax(np.where(ok, y, -np.inf)))
+            d.add(label(float(p.tx(t[j])) + 2, float(p.vy(y[j])) + 2, f"V{k + 1}", 6.5, bold=True))
     return d
 
 

@@ -46,7 +46,8 @@ def definitions(trend: Trend) -> list[tuple[str, str]]:
             "Reference period",
             "The whole resting recording of each visit; doses, if any, are ignored (counted in "
             "the visit table). Only valid breaths are used: breaths cut by a gap, too short, "
-            "with a low plateau or clipped are excluded and counted with their reason.",
+            "with a low plateau or clipped are excluded and counted by reason (a breath may have more "
+            "than one reason); gaps in the CO2 recording are counted with their length.",
         ),
         (
             "EtCO2 and FiCO2",

@@ -47,7 +47,7 @@ from sedreport.render.trend_tables import (
     variability_table,
     visits_table,
 )
-from sedreport.trend import Trend
+from sedreport.trend import Trend, oxygen_text, usual_oxygen
 
 RUNNING_HEAD = "Trend of recorded resting data - documentation, not a diagnosis"
 ABBREVIATIONS = (
@@ -150,6 +150,7 @@ def _summary(trend: Trend, width: float, epoch: str | None) -> list:
             styles.BODY,
         ),
         Paragraph("Visits", styles.H1),
+        *_oxygen_note(trend),
         visits_table(trend, width),
         Paragraph("Indices per visit (median, IQR over valid breaths)", styles.H1),
         indices_table(trend, width),
@@ -163,10 +164,44 @@ def _summary(trend: Trend, width: float, epoch: str | None) -> list:
                 styles.SMALL,
             ),
             changes_table(trend, width, "previous"),
+        ]
+    return out
+
+
+def _changes(trend: Trend, width: float) -> list:
+    """Change from the first visit, the noise of each median, and SpO2 against the target."""
+    out: list = []
+    if len(trend.visits) > 1:
+        out += [
             Paragraph("Change from the first visit (V1)", styles.H1),
             changes_table(trend, width, "first"),
         ]
+    out += [
+        Paragraph("Breath-to-breath variability and noise of the medians", styles.H1),
+        _p(
+            "Interval: the bootstrap interval of the visit's median (method on the last pages); "
+            "a change between two visits smaller than the noise of both is marked (noise).",
+            styles.SMALL,
+        ),
+        variability_table(trend, width),
+        Spacer(1, 8),
+        spo2_target_bars(trend, width, 120.0),
+    ]
     return out
+
+
+def _oxygen_note(trend: Trend) -> list:
+    """A sentence naming the visits on another oxygen setting than most (shaded rows)."""
+    usual = usual_oxygen(trend.visits)
+    odd = [f"V{k + 1}" for k, v in enumerate(trend.visits) if oxygen_text(v) != usual]
+    if not odd:
+        return []
+    text = (
+        f"Most visits were recorded on {usual.replace('_', ' ')}; {', '.join(odd)} on another "
+        "setting (shaded). More oxygen flow dilutes nasal-cannula CO2 and raises SpO2, so their "
+        "EtCO2 and SpO2 are not directly comparable with the other visits."
+    )
+    return [_p(text, styles.SMALL), Spacer(1, 2)]
 
 
 def _strips(trend: Trend, width: float) -> list:
@@ -186,15 +221,13 @@ def _strips(trend: Trend, width: float) -> list:
             styles.SMALL,
         ),
         t,
-        Spacer(1, 4),
-        spo2_target_bars(trend, width, 120.0),
     ]
 
 
 def _shape(trend: Trend, width: float) -> list:
     half = (width - 8) / 2.0
     pair = Table(
-        [[breath_overlay(trend, half, 210.0, False), breath_overlay(trend, half, 210.0, True)]],
+        [[breath_overlay(trend, half, 250.0, False), breath_overlay(trend, half, 250.0, True)]],
         colWidths=[half + 4, half + 4],
         hAlign="LEFT",
     )
@@ -210,9 +243,13 @@ def _shape(trend: Trend, width: float) -> list:
         ),
         pair,
         overlay_legend(trend, width),
-        Spacer(1, 6),
-        Paragraph("Breath-to-breath variability and noise of the medians", styles.H1),
-        variability_table(trend, width),
+        Spacer(1, 8),
+        breath_overlay(trend, width, 230.0, True, (-0.1, 1.2)),
+        _p(
+            "Zoom on the upstroke: a later, less steep rise means a slower phase II; the angle "
+            "between the rise and the plateau is the alpha angle (definition on the last pages).",
+            styles.SMALL,
+        ),
     ]
 
 
@@ -244,6 +281,7 @@ def build_story(trend: Trend, width_pt: float, epoch: str | None) -> list:
     """Every flowable of the trend document, in page order."""
     return (
         _summary(trend, width_pt, epoch)
+        + _changes(trend, width_pt)
         + _strips(trend, width_pt)
         + _shape(trend, width_pt)
         + _methods(trend, width_pt, epoch)

@@ -9,9 +9,11 @@ from reportlab.platypus import Paragraph, Table, TableStyle
 from sedreport.render import styles
 from sedreport.render.styles import para_text
 from sedreport.render.trend_charts import INDEX_LABELS
-from sedreport.trend import Trend, VisitIndices, oxygen_text, stat_of
+from sedreport.trend import Trend, VisitIndices, oxygen_text, stat_of, usual_oxygen
 
 DASH = "-"
+#: mmHg per kPa (1 kPa = 7.50062 mmHg; common practice conversion).
+MMHG_PER_KPA = 7.50062
 #: Indices of the summary and change tables, in column order.
 TABLE_INDICES: tuple[str, ...] = (
     "etco2_mmHg",
@@ -67,51 +69,72 @@ def visit_label(k: int, v: VisitIndices) -> list[str]:
     return [f"V{k + 1} {v.visit_date.strftime('%d %b %Y')}", v.session_id]
 
 
+def oxygen_words(v: VisitIndices) -> str:
+    """``nasal cannula 2 L/min`` (words, not keys)."""
+    return oxygen_text(v).replace("_", " ")
+
+
+def _target_cell(v: VisitIndices) -> str | list[str]:
+    if v.spo2 is None:
+        return "no SpO2"
+    lo, hi = v.spo2.target_pct
+    own = v.spo2.target_from.startswith("patient")
+    return [f"{lo:g}-{hi:g} %", "patient's own" if own else "BTS default"]
+
+
+def _gas_cell(v: VisitIndices) -> str | list[str]:
+    if v.blood_gas is None:
+        return DASH
+    g = v.blood_gas
+    return [
+        f"{g.sample} {g.pco2_mmHg:.1f} mmHg ({g.pco2_mmHg / MMHG_PER_KPA:.2f} kPa)",
+        f"PCO2 - EtCO2 {num(v.gradient_mmHg, 1)} mmHg",
+    ]
+
+
+def _excluded_cell(v: VisitIndices) -> str:
+    parts = [", ".join(f"{r} {n}" for r, n in v.excluded) or "none"]
+    if v.co2_gaps:
+        parts.append(f"{v.co2_gaps} CO2 gap(s), {v.co2_gap_s:.0f} s")
+    if v.doses_ignored:
+        parts.append(f"{v.doses_ignored} dose line(s) ignored")
+    if not v.reliable:
+        parts.append("too few breaths: unreliable")
+    return "; ".join(parts)
+
+
 def visits_table(trend: Trend, width_pt: float) -> Table:
-    """Who, when, oxygen, breaths used and excluded (with reasons), SpO2 target, blood gas."""
+    """When, oxygen, breaths used and excluded (with reasons), SpO2 target, blood gas.
+    Rows of a visit whose oxygen differs from the usual setting are shaded."""
     rows = [
         [
             cell("Visit", styles.CELL_BOLD),
             cell("Oxygen", styles.CELL_BOLD),
-            cell(["Recording", "min"], styles.CELL_BOLD),
-            cell(["Breaths used /", "detected"], styles.CELL_BOLD),
-            cell("Excluded breaths (reason: count)", styles.CELL_BOLD),
+            cell(["Breaths used /", "detected (min)"], styles.CELL_BOLD),
+            cell(["Excluded breaths by reason;", "gaps"], styles.CELL_BOLD),
             cell("SpO2 target", styles.CELL_BOLD),
-            cell(["Blood gas PCO2", "- median EtCO2"], styles.CELL_BOLD),
+            cell(["Blood gas, gradient to", "median EtCO2"], styles.CELL_BOLD),
         ]
     ]
+    usual = usual_oxygen(trend.visits)
     shade = []
     for k, v in enumerate(trend.visits):
-        ox = [oxygen_text(v)] + [f"{f:g} L/min at {t / 60:.0f} min" for t, f, _ in v.flow_changes]
-        excl = ", ".join(f"{r}: {n}" for r, n in v.excluded) or "none"
-        if not v.reliable:
-            excl += " - too few breaths, indices unreliable"
+        ox = [oxygen_words(v)]
+        if oxygen_text(v) != usual:
+            ox.append("differs from usual")
             shade.append(k + 1)
-        target = DASH
-        if v.spo2 is not None:
-            lo, hi = v.spo2.target_pct
-            target = [f"{lo:g}-{hi:g} %", v.spo2.target_from]
-        gas = DASH
-        if v.blood_gas is not None:
-            g = v.blood_gas
-            gas = [
-                f"{g.sample} {g.pco2_mmHg:.1f} mmHg ({g.pco2_mmHg / 7.50062:.2f} kPa)",
-                f"gradient {num(v.gradient_mmHg, 1)} mmHg",
-            ]
+        ox += [f"{f:g} L/min at {t / 60:.0f} min" for t, f, _ in v.flow_changes]
         rows.append(
             [
                 cell(visit_label(k, v)),
                 cell(ox),
-                cell(num(v.duration_s / 60.0, 1)),
-                cell(f"{v.breaths_used} / {v.breaths_total} ({num(v.excluded_pct, 0)} % out)"),
-                cell(
-                    excl + (f"; {v.doses_ignored} dose line(s) ignored" if v.doses_ignored else "")
-                ),
-                cell(target),
-                cell(gas),
+                cell(f"{v.breaths_used} / {v.breaths_total} ({v.duration_s / 60:.0f} min)"),
+                cell(_excluded_cell(v)),
+                cell(_target_cell(v)),
+                cell(_gas_cell(v)),
             ]
         )
-    fr = [0.14, 0.13, 0.08, 0.12, 0.18, 0.17, 0.18]
+    fr = [0.15, 0.16, 0.13, 0.2, 0.12, 0.24]
     return table(rows, [f * width_pt for f in fr], tuple(shade))
 
 
@@ -152,8 +175,10 @@ def changes_table(trend: Trend, width_pt: float, which: str) -> Table:
     head = [cell(["Visit", f"vs {'V1' if which == 'first' else 'previous'}"], styles.CELL_BOLD)]
     head += [cell(_head(i), styles.CELL_BOLD) for i in TABLE_INDICES]
     rows = [head]
+    marked = {m.visit for m in trend.oxygen_marks}
     for k, v in enumerate(trend.visits[1:], start=1):
-        row = [cell(visit_label(k, v))]
+        lab = visit_label(k, v) + ([f"O2 now {oxygen_words(v)}"] if k in marked else [])
+        row = [cell(lab)]
         for index in TABLE_INDICES:
             c = changes[k].get(index)
             digits = INDEX_LABELS[index][2]
@@ -225,4 +250,4 @@ def provenance_table(trend: Trend, width_pt: float) -> Table:
                 rows.append([cell(f"V{k + 1} {v.session_id}"), cell(name), cell(sha, mono)])
     s = trend.settings
     rows.append([cell("settings"), cell(s.path), cell(s.sha256, mono)])
-    return table(rows, [f * width_pt for f in (0.2, 0.28, 0.52)])
+    return table(rows, [f * width_pt for f in (0.16, 0.2, 0.64)])

@@ -6,7 +6,15 @@ Public API: :func:`build_trend`, :func:`visit_indices`, :func:`load_trend_settin
 and not a diagnosis.
 """
 
-from sedreport.trend.build import COMPARED, OxygenMark, Trend, build_trend, oxygen_text, stat_of
+from sedreport.trend.build import (
+    COMPARED,
+    OxygenMark,
+    Trend,
+    build_trend,
+    oxygen_text,
+    stat_of,
+    usual_oxygen,
+)
 from sedreport.trend.settings import TrendSettings, load_trend_settings
 from sedreport.trend.shape import AveragedBreath, alpha_angle_deg, averaged_breath
 from sedreport.trend.stats import Change, IndexStat
@@ -29,5 +37,6 @@ __all__ = [
     "load_trend_settings",
     "oxygen_text",
     "stat_of",
+    "usual_oxygen",
     "visit_indices",
 ]

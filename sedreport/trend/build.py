@@ -25,6 +25,12 @@ class OxygenMark:
     after: str
 
 
+def usual_oxygen(visits: Sequence[VisitIndices]) -> str:
+    """The oxygen setting of most visits (the earliest such setting on a tie)."""
+    keys = [oxygen_text(v) for v in visits]
+    return max(dict.fromkeys(keys), key=keys.count)
+
+
 @dataclass(frozen=True)
 class Trend:
     """The trend of one patient: visits in date order and the changes between them.
@@ -56,7 +62,8 @@ def stat_of(visit: VisitIndices, index: str) -> IndexStat | None:
 
 
 def oxygen_text(visit: VisitIndices) -> str:
-    """``nasal_cannula 2 L/min``, ``room air`` or ``not recorded``."""
+    """Oxygen device and flow as one comparison key: ``nasal_cannula 2 L/min``, ``room air``
+    or ``not recorded``."""
     if visit.flow_l_min == 0:
         return "room air"
     parts = [

@@ -95,6 +95,8 @@ class VisitIndices:
     breaths_used: int
     excluded: tuple[tuple[str, int], ...]
     doses_ignored: int
+    co2_gaps: int
+    co2_gap_s: float
     stats: dict[str, IndexStat]
     etco2_sd_mmHg: float
     interval_cv_pct: float
@@ -236,6 +238,7 @@ def visit_indices(session: Session, settings: TrendSettings) -> VisitIndices:
     gas = session.blood_gas
     grad = None if gas is None else gas.pco2_mmHg - stats["etco2_mmHg"].median
     t0, t1 = float(session.co2.time_s[0]), float(session.co2.time_s[-1])
+    gaps = [f for f in session.findings if f.kind == "gap" and f.source == "co2"]
     return VisitIndices(
         session_id=sid,
         started=session.started,
@@ -248,6 +251,8 @@ def visit_indices(session: Session, settings: TrendSettings) -> VisitIndices:
         breaths_used=used,
         excluded=_excluded(b.reason, b.valid),
         doses_ignored=len(session.doses),
+        co2_gaps=len(gaps),
+        co2_gap_s=float(sum((f.end_s or 0.0) - (f.start_s or 0.0) for f in gaps)),
         stats=stats,
         etco2_sd_mmHg=float(np.nanstd(et, ddof=1)),
         interval_cv_pct=cv,
