@@ -68,12 +68,16 @@ def _nice_range(lo: float, hi: float) -> tuple[float, float, list[float]]:
 
 
 def _date_axis(panel: Panel, trend: Trend, days: np.ndarray) -> Group:
+    """Visit numbers under every tick; dates where there is room (at least 32 pt apart)."""
     g = Group()
+    last_x = -np.inf
     for k, (d, v) in enumerate(zip(days, trend.visits, strict=True)):
         x = float(panel.tx(d))
         g.add(Line(x, panel.y, x, panel.y - 2, strokeColor=styles.AXIS, strokeWidth=0.4))
         g.add(label(x, panel.y - 8, f"V{k + 1}", 5.8, "middle", bold=True))
-        g.add(label(x, panel.y - 14.5, v.started.strftime("%d %b %y"), 5.0, "middle"))
+        if x - last_x >= 32.0:
+            g.add(label(x, panel.y - 14.5, v.started.strftime("%d %b %y"), 5.0, "middle"))
+            last_x = x
     return g
 
 

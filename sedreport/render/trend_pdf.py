@@ -149,6 +149,7 @@ def _summary(trend: Trend, width: float, epoch: str | None) -> list:
             "and methods are on the last pages.",
             styles.BODY,
         ),
+        *_headline(trend),
         Paragraph("Visits", styles.H1),
         *_oxygen_note(trend),
         visits_table(trend, width),
@@ -184,10 +185,39 @@ def _changes(trend: Trend, width: float) -> list:
             styles.SMALL,
         ),
         variability_table(trend, width),
-        Spacer(1, 8),
-        spo2_target_bars(trend, width, 120.0),
     ]
     return out
+
+
+#: Indices named in the headline sentence, with their label and decimals.
+_HEADLINE = (
+    ("etco2_mmHg", "EtCO2", "mmHg", 1),
+    ("rr_per_min", "rate", "/min", 1),
+    ("phase3_slope_norm_per_s", "phase III slope / EtCO2", "1/s", 3),
+    ("alpha_angle_deg", "alpha angle", "deg", 1),
+    ("upstroke_s", "upstroke time", "s", 2),
+    ("spo2_pct", "SpO2", "%", 0),
+)
+
+
+def _headline(trend: Trend) -> list:
+    """One sentence: latest visit against the first, each change with its noise verdict."""
+    if len(trend.visits) < 2:
+        return []
+    n = len(trend.visits)
+    ch = trend.from_first[-1]
+    parts = []
+    for key, name, unit, digits in _HEADLINE:
+        c = ch.get(key)
+        if c is None:
+            continue
+        verdict = "within the noise" if c.within_noise else "beyond the noise"
+        parts.append(f"{name} {c.delta:+.{digits}f} {unit} ({verdict})")
+    text = f"Latest visit V{n} against the first V1: " + "; ".join(parts) + "."
+    if oxygen_text(trend.visits[0]) != oxygen_text(trend.visits[-1]):
+        text += " The two were recorded on different oxygen settings: EtCO2 and SpO2 are not "
+        text += "directly comparable."
+    return [Spacer(1, 2), Paragraph(f"<b>{para_text(text)}</b>", styles.BODY)]
 
 
 def _oxygen_note(trend: Trend) -> list:
@@ -221,6 +251,8 @@ def _strips(trend: Trend, width: float) -> list:
             styles.SMALL,
         ),
         t,
+        Spacer(1, 6),
+        spo2_target_bars(trend, width, 120.0),
     ]
 
 
