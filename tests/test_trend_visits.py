@@ -207,3 +207,42 @@ def test_session_yaml_new_fields_refused_one_line(patch, field, words):
         parse_session_yaml(dict(BASE_YAML, **patch), "V1/session.yaml")
     text = str(exc.value)
     assert f"V1/session.yaml:{field}" in text and words in text and "\n" not in text
+
+
+def test_oxygen_flow_set_during_a_visit_is_listed(cap):
+    from dataclasses import replace
+
+    from sedreport.session import Event
+
+    s = replace(_visit(cap, "A", 0), events=(Event(120.0, "oxygen_increase", 3.0, "nasal"),))
+    assert visit_indices(s, SETTINGS).flow_changes == ((120.0, 3.0, "nasal"),)
+
+
+def test_every_method_paragraph_names_its_source():
+    from sedreport.render.trend_methods import definitions
+
+    trend = build_trend(
+        [_visit(capnogram_of(planted_schedule(40, 15, 0.3, 2, 40), 25, 0.3), "A", 0)]
+    )
+    markers = ("et al.", "common practice", "choice of this tool")
+    for name, text in definitions(trend):
+        assert any(m in text for m in markers), name
+    published = dict(definitions(trend))
+    for name in ("Phase III slope", "Alpha angle"):
+        assert "You et al., Eur Respir J 1994" in published[name]
+        assert "Hisamuddin et al., Int J Emerg Med 2009" in published[name]
+        assert "from memory" in published[name]
+    assert "O'Driscoll et al., Thorax 2017" in published["SpO2"]
+
+
+def test_single_short_visit_without_spo2_renders(tmp_path):
+    from sedreport.render.trend_pdf import render_trend
+
+    cap = capnogram_of(planted_schedule(12, 15.0, 0.3, 2.0, 40.0), 25.0, 0.3)
+    trend = build_trend([make_session(cap, session_id="ONLY")])
+    v = trend.visits[0]
+    assert v.spo2 is None and not v.reliable  # fewer than noise.min_breaths (30) valid breaths
+    out = render_trend(trend, tmp_path / "one.pdf", csv_path=tmp_path / "one.csv")
+    assert out.read_bytes()[:5] == b"%PDF-"
+    row = (tmp_path / "one.csv").read_text().splitlines()[1].split(",")
+    assert row[1] == "ONLY" and row[11] == "" and row[-1] == "false"

@@ -47,7 +47,7 @@ def definitions(trend: Trend) -> list[tuple[str, str]]:
             "The whole resting recording of each visit; doses, if any, are ignored (counted in "
             "the visit table). Only valid breaths are used: breaths cut by a gap, too short, "
             "with a low plateau or clipped are excluded and counted by reason (a breath may have more "
-            "than one reason); gaps in the CO2 recording are counted with their length.",
+            "than one reason); gaps in the CO2 recording are counted with their length (choice of this tool).",
         ),
         (
             "EtCO2 and FiCO2",
@@ -57,7 +57,8 @@ def definitions(trend: Trend) -> list[tuple[str, str]]:
         ),
         (
             "Respiratory rate",
-            "60 / time from the previous breath start, per breath; median over valid breaths.",
+            "60 / time from the previous breath start, per breath; median over valid breaths "
+            "(common practice).",
         ),
         (
             "Phase III slope",
@@ -88,7 +89,7 @@ def definitions(trend: Trend) -> list[tuple[str, str]]:
         (
             "Breath-to-breath variability",
             "Standard deviation of EtCO2 over the valid breaths and the coefficient of "
-            "variation of the breath intervals (SD / mean of 60 / rate).",
+            "variation of the breath intervals (SD / mean of 60 / rate; common practice).",
         ),
         (
             "SpO2",
