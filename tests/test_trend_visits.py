@@ -246,3 +246,14 @@ def test_single_short_visit_without_spo2_renders(tmp_path):
     assert out.read_bytes()[:5] == b"%PDF-"
     row = (tmp_path / "one.csv").read_text().splitlines()[1].split(",")
     assert row[1] == "ONLY" and row[11] == "" and row[-1] == "false"
+
+
+def test_spo2_change_within_display_resolution_is_noise():
+    from sedreport.trend.stats import IndexStat
+
+    old = IndexStat(91.0, 90.0, 92.0, 600, 0.0, 91.0, 91.0)
+    new = IndexStat(90.0, 89.0, 91.0, 600, 0.0, 90.0, 90.0)
+    # whole-percent oximeter readings (common practice): a 1 % step is within the noise
+    assert change("spo2_pct", new, old, 95.0, floor=1.0).within_noise
+    assert not change("spo2_pct", new, old, 95.0).within_noise
+    assert SETTINGS.value("noise.spo2_resolution_pct") == 1.0

@@ -98,7 +98,7 @@ def _oxygen_marks(panel: Panel, trend: Trend, days: np.ndarray) -> Group:
             )
         )
         flow = trend.visits[m.visit].flow_l_min
-        text = "O2" if flow is None else f"O2 {flow:g}"
+        text = "O2" if flow is None else f"O2 {flow:g} L/min"
         g.add(label(x + 1.5, panel.y + panel.height - 6, text, 5.2, bold=True, color=styles.AXIS))
     return g
 

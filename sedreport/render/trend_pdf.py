@@ -292,11 +292,11 @@ def _methods(trend: Trend, width: float, epoch: str | None) -> list:
     out.append(
         Paragraph(f"<b>Noise between visits.</b> {para_text(noise_text(trend))}", styles.BODY)
     )
-    out += [Paragraph("Settings", styles.H2), settings_table(trend, width)]
     cautions = [Paragraph("Cautions", styles.H1)]
     for title, text in load_trend_cautions():
         cautions.append(Paragraph(f"<b>{para_text(title)}.</b> {para_text(text)}", styles.BODY))
     out.append(KeepTogether(cautions))
+    out += [Paragraph("Trend settings", styles.H1), settings_table(trend, width)]
     out += [
         Paragraph("Inputs", styles.H1),
         _p(

@@ -104,7 +104,7 @@ def check_one_patient(sessions: Sequence[Session]) -> str:
     return first.patient.ref
 
 
-def _changes(visits, ref_of, conf: float) -> tuple[dict[str, Change], ...]:
+def _changes(visits, ref_of, conf: float, spo2_floor: float) -> tuple[dict[str, Change], ...]:
     out = []
     for i, v in enumerate(visits):
         j = ref_of(i)
@@ -115,7 +115,8 @@ def _changes(visits, ref_of, conf: float) -> tuple[dict[str, Change], ...]:
         for k in COMPARED:
             new, old = stat_of(v, k), stat_of(visits[j], k)
             if new is not None and old is not None:
-                row[k] = change(k, new, old, conf)
+                floor = spo2_floor if k == "spo2_pct" else 0.0
+                row[k] = change(k, new, old, conf, floor)
         out.append(row)
     return tuple(out)
 
@@ -141,6 +142,7 @@ def build_trend(sessions: Sequence[Session], settings: TrendSettings | None = No
     ordered = sorted(sessions, key=lambda s: (s.started, s.session_id))
     visits = tuple(visit_indices(s, settings) for s in ordered)
     conf = settings.value("noise.confidence_pct")
+    floor = settings.value("noise.spo2_resolution_pct")
     marks = tuple(
         OxygenMark(i, oxygen_text(visits[i - 1]), oxygen_text(visits[i]))
         for i in range(1, len(visits))
@@ -149,8 +151,8 @@ def build_trend(sessions: Sequence[Session], settings: TrendSettings | None = No
     return Trend(
         patient_ref=ref,
         visits=visits,
-        from_first=_changes(visits, lambda i: 0 if i > 0 else None, conf),
-        from_previous=_changes(visits, lambda i: i - 1 if i > 0 else None, conf),
+        from_first=_changes(visits, lambda i: 0 if i > 0 else None, conf, floor),
+        from_previous=_changes(visits, lambda i: i - 1 if i > 0 else None, conf, floor),
         oxygen_marks=marks,
         settings=settings,
     )

@@ -39,6 +39,7 @@ _SCHEMA: dict[str, dict[str, tuple[str, float, float]]] = {
         "block_breaths": ("breaths", 1, 100),
         "block_spo2_s": ("s", 1, 600),
         "confidence_pct": ("%", 50, 99.9),
+        "spo2_resolution_pct": ("%", 0, 5),
         "min_breaths": ("breaths", 3, 1000),
     },
 }

@@ -116,11 +116,14 @@ def index_stat(
     )
 
 
-def change(index: str, new: IndexStat, old: IndexStat, confidence_pct: float) -> Change:
-    """Change ``new - old`` of one index with its noise interval (module docstring)."""
+def change(
+    index: str, new: IndexStat, old: IndexStat, confidence_pct: float, floor: float = 0.0
+) -> Change:
+    """Change ``new - old`` of one index with its noise interval (module docstring); a change
+    no larger than ``floor`` (the reading's display resolution) is always within the noise."""
     z = float(norm.ppf(0.5 + confidence_pct / 200.0))
     delta = new.median - old.median
     se = float(np.hypot(new.se, old.se))
     low, high = delta - z * se, delta + z * se
-    within = bool(np.isfinite(se) and low <= 0.0 <= high)
+    within = bool((np.isfinite(se) and low <= 0.0 <= high) or abs(delta) <= floor)
     return Change(index, float(delta), float(low), float(high), within)
