@@ -249,7 +249,6 @@ class Session:
     oxygen: Oxygen = field(default_factory=Oxygen)
     barometric_mmHg: float = 760.0
     criteria_file: str | None = None
-    blood_gas: BloodGas | None = None
     co2: Capnogram | None = None
     spo2: OximetryTrend | None = None
     doses: tuple[Dose, ...] = ()
@@ -257,6 +256,8 @@ class Session:
     sources: tuple[SourceInfo, ...] = ()
     findings: tuple[QualityFinding, ...] = ()
     warnings: tuple[str, ...] = ()
+    #: Blood gas taken at the visit (``session.yaml`` ``blood_gas``), if any.
+    blood_gas: BloodGas | None = None
 
     # ----- derived views -------------------------------------------------------------------
     @property

@@ -98,7 +98,7 @@ def _first_crossing(cap: Capnogram, t0: np.ndarray, t1: np.ndarray, level: np.nd
     with np.errstate(divide="ignore", invalid="ignore"):
         frac = np.where(dy > 0, (level - y[jp]) / dy, 0.0)
     out = t[jp] + np.clip(frac, 0.0, 1.0) * (t[j] - t[jp])
-    return np.where(found & (j > i0 - 1), out, np.nan)
+    return np.where(found, out, np.nan)
 
 
 def phase2_slope_mmHg_s(
