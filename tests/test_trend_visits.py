@@ -257,3 +257,17 @@ def test_spo2_change_within_display_resolution_is_noise():
     assert change("spo2_pct", new, old, 95.0, floor=1.0).within_noise
     assert not change("spo2_pct", new, old, 95.0).within_noise
     assert SETTINGS.value("noise.spo2_resolution_pct") == 1.0
+
+
+def test_ingest_findings_are_reported_not_dropped(cap):
+    from dataclasses import replace
+
+    from sedreport.session import QualityFinding
+
+    gap = QualityFinding("gap", "co2", "co2: gap of 3.0 s", 100.0, 103.0)
+    skip = QualityFinding("missing_stream", "doses", "doses: no dose log")
+    s = replace(_visit(cap, "A", 0), findings=(gap, skip))
+    v = visit_indices(s, SETTINGS)
+    assert v.co2_gaps == 1 and v.co2_gap_s == pytest.approx(3.0)
+    # a resting visit needs no dose log: that finding is not repeated, the gap is
+    assert v.quality == ("co2: gap of 3.0 s",)

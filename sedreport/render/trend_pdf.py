@@ -297,6 +297,7 @@ def _methods(trend: Trend, width: float, epoch: str | None) -> list:
         cautions.append(Paragraph(f"<b>{para_text(title)}.</b> {para_text(text)}", styles.BODY))
     out.append(KeepTogether(cautions))
     out += [Paragraph("Trend settings", styles.H1), settings_table(trend, width)]
+    out += _quality(trend)
     out += [
         Paragraph("Inputs", styles.H1),
         _p(
@@ -306,6 +307,21 @@ def _methods(trend: Trend, width: float, epoch: str | None) -> list:
         ),
         provenance_table(trend, width),
     ]
+    return out
+
+
+def _quality(trend: Trend) -> list:
+    """Per visit: what ingest found (gaps, dropped rows...) and the SpO2 samples left out."""
+    out: list = [Paragraph("Data quality", styles.H1)]
+    for k, v in enumerate(trend.visits):
+        items = list(v.quality)
+        if v.spo2 is not None and (v.spo2.artefact_samples or v.spo2.missing_samples):
+            items.append(
+                f"SpO2: {v.spo2.artefact_samples} artefact and {v.spo2.missing_samples} missing "
+                f"sample(s) left out of {v.spo2.samples + v.spo2.artefact_samples + v.spo2.missing_samples}"
+            )
+        text = "; ".join(items) if items else "nothing to report"
+        out.append(_p(f"V{k + 1} {v.session_id}: {text}.", styles.SMALL))
     return out
 
 

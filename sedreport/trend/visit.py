@@ -105,6 +105,7 @@ class VisitIndices:
     gradient_mmHg: float | None
     averaged: AveragedBreath
     reliable: bool
+    quality: tuple[str, ...]
     sources: tuple[SourceInfo, ...]
     warnings: tuple[str, ...]
 
@@ -169,6 +170,12 @@ def _excluded(reasons: tuple[str, ...], valid: np.ndarray) -> tuple[tuple[str, i
             for part in (r or "unspecified").split(";"):
                 counts[part] = counts.get(part, 0) + 1
     return tuple(sorted(counts.items(), key=lambda kv: (-kv[1], kv[0])))
+
+
+def _quality(session: Session) -> tuple[str, ...]:
+    """Ingest findings that matter for a resting visit (a visit needs no dose or event log)."""
+    skip = {("missing_stream", "doses"), ("missing_stream", "events")}
+    return tuple(f.message for f in session.findings if (f.kind, f.source) not in skip)
 
 
 def _flow_changes(session: Session) -> tuple[tuple[float, float, str], ...]:
@@ -261,6 +268,7 @@ def visit_indices(session: Session, settings: TrendSettings) -> VisitIndices:
         gradient_mmHg=grad,
         averaged=averaged_breath(session.co2, b, b.valid, settings.value("shape.average_grid_s")),
         reliable=used >= settings.value("noise.min_breaths"),
+        quality=_quality(session),
         sources=session.sources,
         warnings=session.warnings,
     )
