@@ -88,8 +88,10 @@ def definitions(trend: Trend) -> list[tuple[str, str]]:
         ),
         (
             "Breath-to-breath variability",
-            "Standard deviation of EtCO2 over the valid breaths and the coefficient of "
-            "variation of the breath intervals (SD / mean of 60 / rate; common practice).",
+            "Robust standard deviation of EtCO2 over the valid breaths and the robust "
+            "coefficient of variation of the breath intervals (60 / rate): 1.4826 (common practice) x the median "
+            "absolute deviation, divided by the median for the CV, so one long pause does not "
+            "dominate (Rousseeuw and Croux, J Am Stat Assoc 1993; from memory).",
         ),
         (
             "SpO2",

@@ -198,8 +198,8 @@ def variability_table(trend: Trend, width_pt: float) -> Table:
     rows = [
         [
             cell("Visit", styles.CELL_BOLD),
-            cell(["EtCO2 SD", "breath to breath, mmHg"], styles.CELL_BOLD),
-            cell(["Breath interval", "CV, %"], styles.CELL_BOLD),
+            cell(["EtCO2 robust SD", "breath to breath, mmHg"], styles.CELL_BOLD),
+            cell(["Breath interval", "robust CV, %"], styles.CELL_BOLD),
             cell(["EtCO2 median", "interval, mmHg"], styles.CELL_BOLD),
             cell(["Phase III / EtCO2", "median interval, 1/s"], styles.CELL_BOLD),
             cell(["Alpha angle median", "interval, deg"], styles.CELL_BOLD),

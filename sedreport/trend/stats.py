@@ -116,6 +116,22 @@ def index_stat(
     )
 
 
+def robust_sd(values: np.ndarray) -> float:
+    """1.4826 x the median absolute deviation: the SD of normal data, but not inflated by a
+    few outlying breaths, e.g. the one after a pause (Rousseeuw and Croux, J Am Stat Assoc
+    1993; the constant is common practice). NaN for fewer than 3 values.
+
+    Examples
+    --------
+    >>> robust_sd(np.array([1.0, 2.0, 3.0, 4.0, 100.0]))
+    1.4826
+    """
+    x = np.asarray(values, dtype=float)
+    if x.size < 3:
+        return float("nan")
+    return float(1.4826 * np.median(np.abs(x - np.median(x))))
+
+
 def change(
     index: str, new: IndexStat, old: IndexStat, confidence_pct: float, floor: float = 0.0
 ) -> Change:

@@ -33,7 +33,7 @@ from sedreport.trend.shape import (
     phase2_slope_mmHg_s,
     phase2_time_s,
 )
-from sedreport.trend.stats import IndexStat, index_stat, seeded_rng
+from sedreport.trend.stats import IndexStat, index_stat, robust_sd, seeded_rng
 
 #: Conditions (``patient.conditions`` words) that put a patient at risk of hypercapnic
 #: respiratory failure, for the default SpO2 target (O'Driscoll et al., Thorax 2017).
@@ -98,8 +98,8 @@ class VisitIndices:
     co2_gaps: int
     co2_gap_s: float
     stats: dict[str, IndexStat]
-    etco2_sd_mmHg: float
-    interval_cv_pct: float
+    etco2_sd_mmHg: float  # robust SD (1.4826 x MAD) over valid breaths
+    interval_cv_pct: float  # robust SD / median of the breath intervals, %
     spo2: SpO2Summary | None
     blood_gas: BloodGas | None
     gradient_mmHg: float | None
@@ -241,7 +241,9 @@ def visit_indices(session: Session, settings: TrendSettings) -> VisitIndices:
     et = values["etco2_mmHg"]
     rr = values["rr_per_min"]
     intervals = 60.0 / rr[np.isfinite(rr) & (rr > 0)]
-    cv = 100.0 * float(np.std(intervals) / np.mean(intervals)) if intervals.size > 2 else np.nan
+    cv = (
+        100.0 * robust_sd(intervals) / float(np.median(intervals)) if intervals.size > 2 else np.nan
+    )
     gas = session.blood_gas
     grad = None if gas is None else gas.pco2_mmHg - stats["etco2_mmHg"].median
     t0, t1 = float(session.co2.time_s[0]), float(session.co2.time_s[-1])
@@ -261,7 +263,7 @@ def visit_indices(session: Session, settings: TrendSettings) -> VisitIndices:
         co2_gaps=len(gaps),
         co2_gap_s=float(sum((f.end_s or 0.0) - (f.start_s or 0.0) for f in gaps)),
         stats=stats,
-        etco2_sd_mmHg=float(np.nanstd(et, ddof=1)),
+        etco2_sd_mmHg=robust_sd(et[np.isfinite(et)]),
         interval_cv_pct=cv,
         spo2=_spo2_summary(session, settings),
         blood_gas=gas,
