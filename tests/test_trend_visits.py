@@ -282,3 +282,9 @@ def test_robust_sd_of_normal_data_and_one_outlier():
     assert robust_sd(x) == pytest.approx(2.0, rel=0.05)
     assert robust_sd(np.r_[x, 900.0]) == pytest.approx(robust_sd(x), rel=0.01)
     assert np.isnan(robust_sd(np.array([1.0, 2.0])))
+
+
+def test_spo2_without_a_valid_sample_gives_no_shares(cap):
+    sp = visit_indices(make_session(cap, spo2=np.zeros(30)), SETTINGS).spo2
+    assert sp.samples == 0 and sp.artefact_samples == 30
+    assert np.isnan(sp.in_target_pct) and np.isnan(sp.stat.median)

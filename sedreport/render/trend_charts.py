@@ -238,8 +238,8 @@ def spo2_target_bars(trend: Trend, width_pt: float, height_pt: float) -> Drawing
         x = p.x + (k + 0.2) * slot
         d.add(label(x + 0.3 * slot, p.y - 8, f"V{k + 1}", 5.8, "middle", bold=True))
         d.add(label(x + 0.3 * slot, p.y - 14.5, v.started.strftime("%d %b %y"), 5.0, "middle"))
-        if v.spo2 is None:
-            d.add(label(x + 0.3 * slot, p.y + 4, "no SpO2", 5.0, "middle"))
+        if v.spo2 is None or not np.isfinite(v.spo2.in_target_pct):
+            d.add(label(x + 0.3 * slot, p.y + 4, "no valid SpO2", 5.0, "middle"))
             continue
         y = p.y
         for share, fill in (

@@ -149,7 +149,7 @@ def _spo2_summary(session: Session, settings: TrendSettings) -> SpO2Summary | No
         settings.value("noise.confidence_pct"),
         seeded_rng(BOOTSTRAP_SEED, session.session_id, "spo2_pct"),
     )
-    n = max(values.size, 1)
+    n = values.size if values.size else np.nan  # no valid sample: shares are NaN, not 0 %
     return SpO2Summary(
         stat=stat,
         target_pct=target,
