@@ -4,6 +4,10 @@ Prints the time to load the visits, compute the indices and bootstrap intervals,
 PDF and CSV, plus the page count and peak memory. Invented data (sedreport.demo.visits); the
 visits are written to a temporary folder first (not timed).
 Run: ``python benchmarks/bench_trend.py [visits] [minutes]``.
+
+Measured on the shared 2-core machine (December 2026): 12 x 10 min, 2423 breaths: load 0.08 s,
+indices 0.72 s, PDF + CSV 0.46 s (8 pages), total about 1.3 s, peak RSS 183 MiB; 12 x 60 min:
+total 4.7 s, peak RSS 297 MiB.
 """
 
 from __future__ import annotations
