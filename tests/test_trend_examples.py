@@ -38,3 +38,17 @@ def test_example_visits_small_documented_and_loadable():
         assert s.doses == () and s.patient.spo2_target_pct == (88.0, 92.0)
         assert not [f for f in s.findings if f.kind == "gap"]
     assert refs == {"P-C301"}
+
+
+def test_demo_visits_command(tmp_path):
+    from click.testing import CliRunner
+
+    from sedreport.cli import cli
+
+    res = CliRunner().invoke(cli, ["demo", str(tmp_path / "v"), "--visits", "--seed", "2"])
+    assert res.exit_code == 0, res.output
+    assert "wrote 6 invented session(s)" in res.output
+    assert len([p for p in (tmp_path / "v").iterdir() if p.is_dir()]) == 6
+    res = CliRunner().invoke(cli, ["demo", str(tmp_path / "w"), "--visits", "--cohort", "2"])
+    assert res.exit_code == 2 and "cannot be combined" in res.output
+    assert not (tmp_path / "w").exists()
