@@ -197,6 +197,47 @@ def record_command(
     click.echo(f"wrote {written}" + (f" and {json_path}" if json_path else ""))
 
 
+@cli.command("trend")
+@click.argument("visits", nargs=-1, required=True, type=click.Path(path_type=str))
+@click.option(
+    "-o",
+    "--output",
+    required=True,
+    type=click.Path(path_type=str),
+    callback=_suffix(".pdf", "the trend is a PDF file"),
+    help="Trend PDF to write (must end in .pdf; written atomically).",
+)
+@click.option(
+    "--csv",
+    "csv_path",
+    type=click.Path(path_type=str),
+    default=None,
+    callback=_suffix(".csv", "the trend table is a CSV file"),
+    help="Also write one CSV row per visit, in date order.",
+)
+@click.option(
+    "--paper",
+    type=click.Choice(["a4", "letter"], case_sensitive=False),
+    default="a4",
+    show_default=True,
+)
+def trend_command(visits: tuple[str, ...], output: str, csv_path: str | None, paper: str) -> None:
+    """Write the COPD clinic trend of one patient's VISIT folders (any order; shown by date):
+    resting EtCO2, rate, inspired CO2, waveform-shape indices, SpO2 against the target range,
+    changes between visits with the within-visit noise, and the averaged breath per visit.
+
+    Trend documentation of recorded data, not a diagnosis and not an alarm. Nasal-cannula
+    EtCO2 reads below arterial CO2, more so in obstructive disease. Clinical observation comes
+    first; local policy and licensed practice decide.
+    """
+    from sedreport.render.trend_pdf import render_trend
+    from sedreport.trend import build_trend
+
+    trend = build_trend([_load(v) for v in visits])
+    written = render_trend(trend, output, csv_path=csv_path, paper=paper.lower())
+    click.echo(f"wrote {written}" + (f" and {csv_path}" if csv_path else ""))
+
+
 @cli.command("breaths")
 @click.argument("session", type=click.Path(path_type=str))
 @table_format_option
@@ -277,8 +318,20 @@ def criteria_command(file: str | None) -> None:
     show_default=True,
     help="Worker processes for --cohort (0 = one per CPU).",
 )
+@click.option(
+    "--visits",
+    is_flag=True,
+    default=False,
+    help="Write the invented COPD clinic visits of one patient (for `sedreport trend`).",
+)
 def demo_command(
-    outdir: str, scenario: str, seed: int, cohort: int | None, recipe: str | None, jobs: int
+    outdir: str,
+    scenario: str,
+    seed: int,
+    cohort: int | None,
+    recipe: str | None,
+    jobs: int,
+    visits: bool,
 ) -> None:
     """Write invented demo sessions to OUTDIR, each with a `<session_id>.truth.json`.
 
@@ -287,7 +340,11 @@ def demo_command(
     """
     import sedreport.demo as demo
 
-    if cohort is not None:
+    if visits:
+        if cohort is not None or scenario != "all":
+            raise click.UsageError("--visits cannot be combined with --cohort or --scenario")
+        folders = demo.write_visits(outdir, seed=seed)
+    elif cohort is not None:
         if scenario != "all":
             raise click.UsageError("--cohort and --scenario cannot be combined")
         folders = demo.write_cohort(outdir, cohort, seed=seed, recipe=recipe, jobs=jobs)

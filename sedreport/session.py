@@ -42,6 +42,8 @@ class Patient:
     height_cm: float | None = None
     asa_class: int | None = None
     conditions: tuple[str, ...] = ()
+    #: The patient's own SpO2 target range (low, high) in %, when ``session.yaml`` sets one.
+    spo2_target_pct: tuple[float, float] | None = None
 
 
 @dataclass(frozen=True)
@@ -58,6 +60,25 @@ class Oxygen:
 
     device: str | None = None
     flow_l_min: float | None = None
+
+
+@dataclass(frozen=True)
+class BloodGas:
+    """A blood gas taken at the visit (``session.yaml`` ``blood_gas``).
+
+    Attributes
+    ----------
+    pco2_mmHg : float
+        Carbon dioxide partial pressure, mmHg (converted once from kPa when given in kPa).
+    sample : str
+        ``arterial`` or ``capillary`` (arterialised earlobe capillary sample).
+    time_s : float | None
+        When it was taken, seconds on the session clock (None when not recorded).
+    """
+
+    pco2_mmHg: float
+    sample: str
+    time_s: float | None = None
 
 
 @dataclass(frozen=True)
@@ -249,6 +270,8 @@ class Session:
     sources: tuple[SourceInfo, ...] = ()
     findings: tuple[QualityFinding, ...] = ()
     warnings: tuple[str, ...] = ()
+    #: Blood gas taken at the visit (``session.yaml`` ``blood_gas``), if any.
+    blood_gas: BloodGas | None = None
 
     # ----- derived views -------------------------------------------------------------------
     @property

@@ -16,7 +16,7 @@ import yaml
 
 from sedreport.errors import SessionError
 from sedreport.ingest.units import canonical_co2_unit
-from sedreport.session import Oxygen, Patient, Team
+from sedreport.session import BloodGas, Oxygen, Patient, Team
 
 FORMAT = "sedreport-session/1"
 SESSION_ID_RE = re.compile(r"[A-Za-z0-9._-]{1,64}")
@@ -38,8 +38,22 @@ TOP_KEYS = (
     "sources",
     "barometric_mmHg",
     "criteria",
+    "blood_gas",
 )
-PATIENT_KEYS = ("ref", "age_years", "sex", "weight_kg", "height_cm", "asa_class", "conditions")
+PATIENT_KEYS = (
+    "ref",
+    "age_years",
+    "sex",
+    "weight_kg",
+    "height_cm",
+    "asa_class",
+    "conditions",
+    "spo2_target_pct",
+)
+BLOOD_GAS_KEYS = ("pco2_mmHg", "pco2_kPa", "sample", "time_s")
+BLOOD_SAMPLES = ("arterial", "capillary")
+#: mmHg per kPa (1 kPa = 7.50062 mmHg; common practice conversion).
+MMHG_PER_KPA = 7.50062
 SOURCE_KEYS = {
     "co2": ("file", "units", "clock_offset_s", "channel"),
     "spo2": ("file", "units", "clock_offset_s", "channel", "pulse_channel"),
@@ -78,6 +92,7 @@ class SessionSpec:
     barometric_mmHg: float
     criteria: str | None
     warnings: tuple[str, ...] = field(default=())
+    blood_gas: BloodGas | None = None
 
 
 def load_yaml_text(text: str, where: str) -> dict:
@@ -213,6 +228,44 @@ def _patient(f: _Fields, doc: dict) -> Patient:
         height_cm=f.number(p, "height_cm", 30, 250, " cm", pre),
         asa_class=None if asa is None else int(asa),
         conditions=tuple(c.strip().lower() for c in conditions),
+        spo2_target_pct=_spo2_target(f, p),
+    )
+
+
+def _spo2_target(f: _Fields, p: dict) -> tuple[float, float] | None:
+    """``patient.spo2_target_pct: [low, high]``, e.g. [88, 92] (BTS, O'Driscoll 2017)."""
+    value = p.get("spo2_target_pct")
+    if value is None:
+        return None
+    name = "patient.spo2_target_pct"
+    ok = isinstance(value, list) and len(value) == 2
+    ok = ok and all(isinstance(v, int | float) and not isinstance(v, bool) for v in value)
+    if not ok:
+        raise f.err(name, f"must be a list [low, high] of two numbers in %, got {value!r}")
+    low, high = float(value[0]), float(value[1])
+    if not (50.0 <= low < high <= 100.0):
+        raise f.err(name, f"{value!r}: need 50 <= low < high <= 100 (%)")
+    return (low, high)
+
+
+def _blood_gas(f: _Fields, doc: dict) -> BloodGas | None:
+    """``blood_gas: {sample: arterial|capillary, pco2_kPa: 6.9 | pco2_mmHg: 52, time_s: 300}``."""
+    b = f.mapping(doc, "blood_gas")
+    if not b:
+        return None
+    pre = "blood_gas."
+    f.unknown(b, BLOOD_GAS_KEYS, pre)
+    mmhg = f.number(b, "pco2_mmHg", 10, 150, " mmHg", pre)
+    kpa = f.number(b, "pco2_kPa", 1.3, 20, " kPa", pre)
+    if (mmhg is None) == (kpa is None):
+        raise f.err(pre + "pco2_mmHg", "give exactly one of pco2_mmHg or pco2_kPa")
+    sample = f.choice(b, "sample", BLOOD_SAMPLES, pre)
+    if sample is None:
+        raise f.err(pre + "sample", "missing (arterial | capillary)")
+    return BloodGas(
+        pco2_mmHg=mmhg if mmhg is not None else kpa * MMHG_PER_KPA,
+        sample=sample,
+        time_s=f.number(b, "time_s", -MAX_CLOCK_OFFSET_S, MAX_CLOCK_OFFSET_S, " s", pre),
     )
 
 
@@ -312,5 +365,6 @@ def parse_session_yaml(doc: dict, where: str) -> SessionSpec:
         sources=_sources(f, doc),
         barometric_mmHg=f.number(doc, "barometric_mmHg", 400, 800, " mmHg") or 760.0,
         criteria=criteria,
+        blood_gas=_blood_gas(f, doc),
         warnings=tuple(f.warnings),
     )
