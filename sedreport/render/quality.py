@@ -220,10 +220,19 @@ def quality_flowables(analysis: Analysis, width_pt: float) -> list:
         Paragraph(
             para_text(
                 f"Breaths not usable for trends: {_invalid_text(q.invalid_breaths, q.invalid_by_reason)}. "
-                f"SpO2 samples marked as artefact: {q.spo2_artefact_samples}."
+                f"SpO2 samples marked as artefact: {q.spo2_artefact_samples}"
+                f"{_by_rule_text(q.spo2_artefact_by_rule)}. "
+                f"SpO2 samples without a reading (blank, 0 or impossible; kept as missing, "
+                f"never a nadir): {q.spo2_no_reading_samples} of {q.spo2_samples}."
             ),
             styles.BODY,
         )
     )
     out += criteria_flowables(analysis, width_pt)
     return out
+
+
+def _by_rule_text(by_rule: dict[str, int]) -> str:
+    """`` (spike 3, flat 0)`` for the non-zero rules; empty when none marked anything."""
+    parts = [f"{rule} {n}" for rule, n in by_rule.items() if n]
+    return f" ({', '.join(parts)})" if parts else ""
