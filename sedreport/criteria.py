@@ -100,6 +100,8 @@ class OximetryCriteria:
     flat_s: float
     flat_below_pct: float
     acquisition_s: float
+    startup_s: float
+    startup_after_s: float
     acquisition_tolerance_pct: float
     pulse_max_bpm: float
 
@@ -186,6 +188,8 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "flat_s": _Spec("s", 30, 3600),
         "flat_below_pct": _Spec("%", 50, 101),
         "acquisition_s": _Spec("s", 0, 120),
+        "startup_s": _Spec("s", 0, 600),
+        "startup_after_s": _Spec("s", 1, 3600),
         "acquisition_tolerance_pct": _Spec("%", 0, 20),
         "pulse_max_bpm": _Spec("1/min", 100, 400),
     },

@@ -11,11 +11,14 @@ input is never modified. Every value comes from the ``oximetry`` section of the 
    never a recovery, and a desaturation is never bridged over it. Where "no reading" becomes
    missing is here, in cleaning (ingest keeps 0 as 0 and blank as NaN); Quality reports the
    count.
-1. **Acquisition** (``acquisition_s``, ``acquisition_tolerance_pct``): in the first
-   ``acquisition_s`` after the probe acquires (the first reading of the file, or the first
-   after a stretch without a reading or a sample step longer than ``acquisition_s``) readings that lie more than the tolerance below the
+1. **Acquisition** (``acquisition_s``, ``startup_s``, ``startup_after_s``,
+   ``acquisition_tolerance_pct``): in the first ``acquisition_s`` after the probe acquires
+   again (the first reading after a stretch without a reading), or the first ``startup_s``
+   after it is put on (the file's first reading, or the first after at least
+   ``startup_after_s`` without one), readings that lie more than the tolerance below the
    median of the next window of the same length are suspect (all of them when no reading
-   follows). Real probes read low for one to three display updates after acquiring.
+   follows). Real probes read low for one to three display updates after a dropout and for
+   up to about a minute after they are put on.
 2. **Drop** (``drop_min_pct``, ``drop_max_s``): a fall of at least ``drop_min_pct`` between
    two consecutive display updates is not physiological (probe motion starts this way; a
    rise of that size can be real, reoxygenation is fast). The readings from the fall until
@@ -103,18 +106,22 @@ def _no_reading(spo2: np.ndarray, c: OximetryCriteria) -> np.ndarray:
 
 
 def _acquisition(t: np.ndarray, spo2: np.ndarray, none: np.ndarray, c: OximetryCriteria):
-    """Rule 1: low readings in the first ``acquisition_s`` after the probe acquires."""
+    """Rule 1: low readings in the window after the probe acquires (module docstring)."""
     mask = np.zeros(spo2.size, dtype=bool)
-    w = c.acquisition_s
     idx = np.flatnonzero(~none)
-    if idx.size == 0 or w <= 0:
+    if idx.size == 0:
         return mask
-    prev_none = np.r_[True, none[:-1]] | (np.r_[np.inf, np.diff(t)] > w)
-    starts = np.flatnonzero(~none & prev_none)
     tr, vr = t[idx], spo2[idx]
-    for a in t[starts]:
-        lo, mid, hi = np.searchsorted(tr, [a, a + w, a + 2.0 * w])
-        window = np.arange(lo, mid)
+    # Seconds without a reading before each reading (inf before the first one).
+    quiet = np.r_[np.inf, np.diff(tr)]
+    lost = np.r_[True, none[:-1]][idx] | (quiet > max(c.acquisition_s, 1.0))
+    for k in np.flatnonzero(lost):
+        w = c.startup_s if quiet[k] >= c.startup_after_s else c.acquisition_s
+        if w <= 0:
+            continue
+        a = tr[k]
+        mid, hi = np.searchsorted(tr, [a + w, a + 2.0 * w])
+        window = np.arange(k, mid)
         after = vr[mid:hi]
         if after.size:
             window = window[vr[window] < np.median(after) - c.acquisition_tolerance_pct]
@@ -133,7 +140,8 @@ def _excursions(
 ) -> np.ndarray:
     """Steps between consecutive usable readings that come back within ``max_s``.
 
-    A step of at least ``min_step_pct`` (only a fall when ``falls_only``) marks the readings
+    A step of at least ``min_step_pct`` (only a fall when ``falls_only``) between two adjacent
+    samples (a display update, never across samples without a reading) marks the readings
     from the step until a reading is back within ``return_pct`` of the reading before the step
     (for a fall: at or above it minus ``return_pct``), when that return comes within ``max_s``.
     Returns a mask over all samples. The loop runs over candidate steps (rare), not samples.
@@ -145,7 +153,8 @@ def _excursions(
     tv, sv = t[idx], spo2[idx]
     step = np.diff(sv)
     size = -step if falls_only else np.abs(step)
-    cand = np.flatnonzero((size >= min_step_pct) & (np.diff(tv) <= max_s)) + 1
+    # A step between adjacent samples only: never across a stretch without a reading.
+    cand = np.flatnonzero((size >= min_step_pct) & (np.diff(idx) == 1)) + 1
     covered_until = -1
     for j in cand:
         if j < covered_until:

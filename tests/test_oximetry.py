@@ -142,6 +142,25 @@ def test_acquisition_readings_are_suspect_and_never_a_nadir():
     assert np.nanmin(m.spo2_pct) >= 95.0
 
 
+def test_start_up_window_after_the_probe_is_put_on():
+    """After 2 min without a reading the probe is put on again: 82-92 % climbing over 40 s to
+    the case's 97 % are start-up readings (startup_s 60 s); after a 12-s dropout only the
+    first acquisition_s (12 s) are judged."""
+    climb = [82, 83, 85, 86, 88, 88, 89, 90, 92, 94]
+    s = _held(np.r_[_wobble(40), [0] * 30, climb, _wobble(40), [0] * 3, [84, 86], _wobble(40)])
+    m = mark_oximetry(_trend(s))
+    first = 70 * 4
+    second = first + 50 * 4 + 12
+    # 82-92 % lie more than 3 % below the next minute's median (97 %): 9 updates, 36 s
+    assert np.flatnonzero(m.rule == "acquisition").tolist() == [
+        *range(first, first + 36),
+        *range(second, second + 8),
+    ]
+    later = mark_oximetry(_trend(s), _criteria(startup_after_s=200.0))
+    # as a short dropout: 82 and 83 % lie > 3 % below the next 12 s (median 88 %); 85 % not
+    assert later.artefact_by_rule["acquisition"] == 8 + 8
+
+
 def test_acquisition_at_the_level_that_follows_is_kept():
     s = _held(np.r_[[97], _wobble(40), [0] * 3, [96], _wobble(40)])
     assert not mark_oximetry(_trend(s)).artefact.any()
@@ -150,10 +169,8 @@ def test_acquisition_at_the_level_that_follows_is_kept():
 def test_acquisition_window_read_from_criteria():
     s = _held(np.r_[[84, 86, 88], _wobble(40)])
     assert mark_oximetry(_trend(s)).artefact_by_rule["acquisition"] == 12
-    assert (
-        mark_oximetry(_trend(s), _criteria(acquisition_s=8.0)).artefact_by_rule["acquisition"] == 8
-    )
-    assert mark_oximetry(_trend(s), _criteria(acquisition_s=0.0)).artefact_by_rule == {
+    assert mark_oximetry(_trend(s), _criteria(startup_s=8.0)).artefact_by_rule["acquisition"] == 8
+    assert mark_oximetry(_trend(s), _criteria(startup_s=0.0)).artefact_by_rule == {
         "acquisition": 0, "drop": 0, "spike": 0, "flat": 0,
     }  # fmt: skip
 
