@@ -64,10 +64,11 @@ def export_like_monitor(
         after = (grid_s >= end) & (grid_s < end + p.startup_s)
         spo2 = ox.startup_ramp(spo2, after, p.startup_low_pct)
     u = int(spec.spo2_update_s)
-    spo2 = ox.quantise(ox.hold_display(spo2, u), 100.0)
-    pulse = ox.hold_display(pulse, u)
+    k0 = int(np.searchsorted(grid_s, t0_s))
+    spo2 = ox.quantise(ox.hold_display(spo2, u, k0), 100.0)
+    pulse = ox.hold_display(pulse, u, k0)
     marked = artefact | startup
-    held_art = ox.hold_display(marked, u) | marked
+    held_art = ox.hold_display(marked, u, k0) | marked
     spo2 = np.where(off, 0.0, spo2)
     pulse = np.where(off, 0.0, pulse)
     return spo2, pulse, held_art | off

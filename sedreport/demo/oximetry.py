@@ -179,13 +179,15 @@ def plant_motion_artefact(
     return spo2, pulse
 
 
-def hold_display(values: np.ndarray, update_s: int) -> np.ndarray:
+def hold_display(values: np.ndarray, update_s: int, first: int = 0) -> np.ndarray:
     """Sample and hold on the 1 s grid: each displayed value is held for ``update_s`` seconds
-    (a monitor that updates its display every few seconds, exported at 1 Hz)."""
+    (a monitor that updates its display every few seconds, exported at 1 Hz); updates fall on
+    ``first`` (the index of the file's first second) and every ``update_s`` after it."""
     values = np.asarray(values)
     if update_s <= 1:
         return values.copy()
-    return values[(np.arange(values.size) // update_s) * update_s]
+    k = np.arange(values.size)
+    return values[np.where(k < first, k, first + ((k - first) // update_s) * update_s)]
 
 
 def startup_ramp(spo2: np.ndarray, window: np.ndarray, low_pct: float) -> np.ndarray:

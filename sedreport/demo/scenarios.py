@@ -286,8 +286,8 @@ def _gap_and_probe_artefact() -> CaseSpec:
         planted=(
             Gap(source="co2", start_s=822.0, duration_s=75.0),
             Spo2Artefact(start_s=1050.0, duration_s=30.0),
-            ProbeOff(start_s=940.0, duration_s=24.0, startup_s=8.0, startup_low_pct=9.0),
-            ProbeOff(start_s=1140.0, duration_s=4.0, startup_s=4.0, startup_low_pct=7.0),
+            ProbeOff(start_s=942.0, duration_s=8.0, startup_s=8.0, startup_low_pct=9.0),
+            ProbeOff(start_s=1142.0, duration_s=4.0, startup_s=4.0, startup_low_pct=7.0),
             MouthBreathing(start_s=1200.0, duration_s=120.0),
         ),
         flow_l_min=2.0,

@@ -172,22 +172,22 @@ def _artefacts(spec: CaseSpec, sig: Signals) -> list[dict]:
     return sorted(out, key=lambda x: x["start_s"])
 
 
-def probe_off_losses(spec: CaseSpec, sig: Signals) -> list[dict]:
-    """SpO2 signal loss of each probe-off stretch longer than the default gap rule: from the
-    last reading before it to the first reading after it."""
+def probe_off_gaps(spec: CaseSpec, sig: Signals) -> list[dict]:
+    """Each probe-off stretch whose step between readings exceeds the default SpO2 gap rule:
+    from the last reading before it to the first reading after it (``gaps`` entries)."""
     out = []
     t, v = sig.spo2_time_s, sig.spo2_pct
     for p in spec.planted_of(ProbeOff):
         before = t[(t < p.start_s) & (v > 0)]
         after = t[(t >= p.start_s + p.duration_s) & (v > 0)]
         if before.size and after.size and after[0] - before[-1] > SPO2_GAP_S:
-            out.append(_episode("signal_loss", "spo2", before[-1], after[0]))
+            out.append({"source": "spo2", "start_s": _r(before[-1]), "end_s": _r(after[0])})
     return out
 
 
 def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
     """The truth dictionary of one simulated case (JSON-ready)."""
-    gaps = gap_edges(spec, sig)
+    gaps = gap_edges(spec, sig) + probe_off_gaps(spec, sig)
     keep = recorded_breaths(spec, sig, gaps)
     s = sig.schedule.select(keep)
     episodes = (
@@ -197,7 +197,6 @@ def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
         + _obstructions(spec, sig)
         + _desaturations(sig)
         + [_episode("signal_loss", g["source"], g["start_s"], g["end_s"]) for g in gaps]
-        + probe_off_losses(spec, sig)
     )
     episodes.sort(key=lambda e: (e["start_s"], e["kind"]))
     return {
