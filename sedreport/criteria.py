@@ -96,6 +96,7 @@ class OximetryCriteria:
     spike_return_pct: float
     spike_max_s: float
     drop_min_pct: float
+    drop_steady_s: float
     drop_max_s: float
     flat_s: float
     flat_below_pct: float
@@ -184,6 +185,7 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "spike_return_pct": _Spec("%", 0, 10),
         "spike_max_s": _Spec("s", 1, 120),
         "drop_min_pct": _Spec("%", 2, 60),
+        "drop_steady_s": _Spec("s", 0, 120),
         "drop_max_s": _Spec("s", 1, 600),
         "flat_s": _Spec("s", 30, 3600),
         "flat_below_pct": _Spec("%", 50, 101),

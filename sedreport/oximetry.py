@@ -16,12 +16,15 @@ input is never modified. Every value comes from the ``oximetry`` section of the 
    again (the first reading after a stretch without a reading), or the first ``startup_s``
    after it is put on (the file's first reading, or the first after at least
    ``startup_after_s`` without one), readings that lie more than the tolerance below the
-   median of the next window of the same length are suspect (all of them when no reading
-   follows). Real probes read low for one to three display updates after a dropout and for
-   up to about a minute after they are put on.
-2. **Drop** (``drop_min_pct``, ``drop_max_s``): a fall of at least ``drop_min_pct`` between
-   two consecutive display updates is not physiological (probe motion starts this way; a
-   rise of that size can be real, reoxygenation is fast). The readings from the fall until
+   median of the next window of the same length are suspect (when no reading follows: below
+   the last reading before the loss; all of them when there is none). Real probes read low
+   for one to three display updates after a dropout and for up to about a minute after they
+   are put on.
+2. **Drop** (``drop_min_pct``, ``drop_steady_s``, ``drop_max_s``): a fall of at least
+   ``drop_min_pct`` between two consecutive display updates from a steady level (the readings
+   of the ``drop_steady_s`` before it differ by less than ``spike_min_pct``) is not physiological (probe motion
+   starts this way; a genuine desaturation speeds up into its steep part, and a rise of that
+   size can be real, reoxygenation is fast). The readings from the fall until
    SpO2 is back within ``spike_return_pct`` below the level before it are marked, when it is
    back within ``drop_max_s``; a fall that does not come back is kept.
 3. **Spike** (``spike_min_pct``, ``spike_return_pct``, ``spike_max_s``): judged on display
@@ -123,9 +126,8 @@ def _acquisition(t: np.ndarray, spo2: np.ndarray, none: np.ndarray, c: OximetryC
         mid, hi = np.searchsorted(tr, [a + w, a + 2.0 * w])
         window = np.arange(k, mid)
         after = vr[mid:hi]
-        if after.size:
-            window = window[vr[window] < np.median(after) - c.acquisition_tolerance_pct]
-        mask[idx[window]] = True
+        ref = np.median(after) if after.size else (vr[k - 1] if k > 0 else np.inf)
+        mask[idx[window[vr[window] < ref - c.acquisition_tolerance_pct]]] = True
     return mask
 
 
@@ -137,6 +139,8 @@ def _excursions(
     max_s: float,
     return_pct: float,
     falls_only: bool,
+    steady_s: float = 0.0,
+    steady_pct: float = 0.0,
 ) -> np.ndarray:
     """Steps between consecutive usable readings that come back within ``max_s``.
 
@@ -144,6 +148,8 @@ def _excursions(
     samples (a display update, never across samples without a reading) marks the readings
     from the step until a reading is back within ``return_pct`` of the reading before the step
     (for a fall: at or above it minus ``return_pct``), when that return comes within ``max_s``.
+    With ``steady_s`` > 0 a step counts only from a steady level: the readings of the
+    ``steady_s`` before it differ by less than ``steady_pct``.
     Returns a mask over all samples. The loop runs over candidate steps (rare), not samples.
     """
     mask = np.zeros(spo2.size, dtype=bool)
@@ -159,6 +165,11 @@ def _excursions(
     for j in cand:
         if j < covered_until:
             continue
+        if steady_s > 0:
+            lo = np.searchsorted(tv, tv[j - 1] - steady_s)
+            before = sv[lo:j]
+            if before.max() - before.min() >= steady_pct:
+                continue
         stop = np.searchsorted(tv, tv[j] + max_s, side="right")
         later = sv[j + 1 : stop] - sv[j - 1]
         back = later >= -return_pct if falls_only else np.abs(later) <= return_pct
@@ -226,7 +237,10 @@ def mark_oximetry(trend: OximetryTrend, criteria: Criteria | None = None) -> Oxi
     rule[~np.isfinite(spo2)] = "blank"
     acq = _acquisition(t, spo2, none, c)
     ok = ~none & ~acq
-    drop = _excursions(t, spo2, ok, c.drop_min_pct, c.drop_max_s, c.spike_return_pct, True)
+    drop = _excursions(
+        t, spo2, ok, c.drop_min_pct, c.drop_max_s, c.spike_return_pct, True,
+        c.drop_steady_s, c.spike_min_pct,
+    )  # fmt: skip
     spike = _excursions(
         t, spo2, ok & ~drop, c.spike_min_pct, c.spike_max_s, c.spike_return_pct, False
     )

@@ -90,9 +90,9 @@ def test_zero_blank_and_impossible_are_no_reading_not_artefact():
 
 def test_min_reading_threshold_read_from_criteria():
     s = _held(_wobble(50))
-    s[40:48] = 35.0
+    s[40:48] = 15.0
     assert mark_oximetry(_trend(s)).no_reading[40:48].all()
-    looser = _criteria(min_reading_pct=30.0)
+    looser = _criteria(min_reading_pct=10.0)
     assert not mark_oximetry(_trend(s), looser).no_reading.any()
 
 
@@ -124,6 +124,15 @@ def test_fall_that_comes_back_within_a_minute_is_a_drop():
     assert m.artefact[100:130].all() and m.artefact.sum() == 30
     assert m.artefact_by_rule["drop"] >= 26
     assert np.nanmin(m.spo2_pct) >= 95.0
+
+
+def test_steep_part_of_a_deep_desaturation_is_not_a_drop():
+    """A desaturation speeding up (3, 5, 8, 11 points an update) down to 48 % and back within
+    a minute: every fall follows a fall, none starts from a steady level; nothing marked."""
+    s = _held(np.r_[[97] * 20, [94, 89, 81, 70, 59, 48, 48, 55, 66, 78, 88, 94], [97] * 20])
+    assert not mark_oximetry(_trend(s)).artefact.any()
+    m = mark_oximetry(_trend(s), _criteria(drop_steady_s=0.0))
+    assert m.artefact_by_rule["drop"] > 0  # without the steady-level condition it would be
 
 
 def test_fall_that_does_not_come_back_is_kept():

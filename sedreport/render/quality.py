@@ -145,6 +145,7 @@ CRITERION_WORDS: dict[str, str] = {
     "oximetry.spike_return_pct": "spike: back within",
     "oximetry.spike_max_s": "spike: back within (time)",
     "oximetry.drop_min_pct": "drop: fall in one update of at least",
+    "oximetry.drop_steady_s": "drop: only from a level steady for",
     "oximetry.drop_max_s": "drop: back within (time)",
     "oximetry.flat_s": "flat line: unchanged for",
     "oximetry.flat_below_pct": "flat line: only below",
