@@ -62,6 +62,8 @@ def test_a_short_flicker_of_zeros_is_not_bridged_either():
     a = analyse_session(_session(s))
     assert _kinds(a, "desaturation") == [(120.0, 152.0), (156.0, 192.0)]
     assert _kinds(a, "signal_loss") == []  # 5 s between readings: not a gap (10 s rule)
+    # 68 s of low readings, each held 1 s; the 4 s without a reading are not counted
+    assert a.summary.time_below_spo2_threshold_s == 68.0
 
 
 def test_case_of_zeros_has_no_nadir_and_reports_signal_loss():

@@ -189,6 +189,13 @@ def time_below_s(t: np.ndarray, v: np.ndarray, threshold: float, max_step_s: flo
     return float(np.sum(dt[(v[:-1] < threshold) & (dt <= max_step_s)]))
 
 
+def _non_artefact_spo2(trends: Trends) -> tuple[np.ndarray, np.ndarray]:
+    """Times (s) and values (%) of every SpO2 sample but the artefacts: samples without a
+    reading stay (NaN), so a low reading is held only until the reading is lost."""
+    keep = ~np.asarray(trends.spo2_artefact, dtype=bool)
+    return np.asarray(trends.spo2_time_s, float)[keep], np.asarray(trends.spo2_pct, float)[keep]
+
+
 def _pct(part: float, whole: float) -> float | None:
     return 100.0 * part / whole if whole > 0 else None
 
@@ -229,7 +236,9 @@ def summarise_session(
         min_spo2_pct=_finite_or_none(spo2_v, np.min),
         spo2_threshold_pct=float(threshold),
         time_below_spo2_threshold_s=(
-            time_below_s(spo2_t, spo2_v, threshold, gap.spo2_gap_s) if spo2_t.size else None
+            time_below_s(*_non_artefact_spo2(trends), threshold, gap.spo2_gap_s)
+            if spo2_t.size
+            else None
         ),
         max_etco2_mmHg=_finite_or_none(breaths.etco2_mmHg[valid], np.max),
         median_rr_per_min=_finite_or_none(breaths.rr_per_min[valid], np.median),
