@@ -232,3 +232,33 @@ def test_input_untouched_and_pulse_limits():
     assert np.isnan(pulse[5]) and np.isnan(pulse[6]) and not bad.any()
     assert np.array_equal(spo2, s)
     assert np.array_equal(tr.spo2_pct, before[0]) and np.array_equal(tr.pulse_bpm, before[1])
+
+
+@pytest.mark.parametrize(
+    ("key", "value", "rule", "default_n", "changed_n"),
+    [
+        # 97 -> 85 % (12 points) from a steady level, back after 20 s: a drop by default
+        ("drop_min_pct", 13.0, "drop", 20, 0),
+        ("drop_max_s", 16.0, "drop", 20, 0),
+        # 97 -> 91 % (6 points) for 8 s: a spike by default
+        ("spike_min_pct", 7.0, "spike", 8, 0),
+        ("spike_return_pct", 0.0, "spike", 8, 12),
+        # start-up reading of 93 % before 97 %: 4 points below, over the 3 % tolerance
+        ("acquisition_tolerance_pct", 5.0, "acquisition", 4, 0),
+    ],
+)
+def test_each_rule_threshold_read_from_criteria(key, value, rule, default_n, changed_n):
+    s = _held(np.r_[[93], [97] * 30, [85] * 5, [97] * 30, [91, 91], [96], [97] * 30])
+    assert mark_oximetry(_trend(s)).artefact_by_rule[rule] == default_n
+    changed = mark_oximetry(_trend(s), _criteria(**{key: value}))
+    assert changed.artefact_by_rule[rule] == changed_n
+
+
+def test_pulse_limit_read_from_criteria():
+    s = _held(_wobble(25))
+    p = np.full(s.size, 80.0) + np.arange(s.size) % 3
+    p[10:14] = 260.0
+    assert np.isfinite(mark_oximetry(_trend(s, p)).pulse_bpm[10:14]).all()
+    assert np.isnan(
+        mark_oximetry(_trend(s, p), _criteria(pulse_max_bpm=250.0)).pulse_bpm[10:14]
+    ).all()
