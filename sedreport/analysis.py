@@ -9,7 +9,7 @@ The tool documents and reviews recorded data; it is not an alarm or a diagnosis.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
@@ -20,6 +20,7 @@ from sedreport.criteria import Criteria, resolve_criteria
 from sedreport.episodes.detect import detect_episodes
 from sedreport.episodes.model import Episode
 from sedreport.episodes.summary import Quality, Summary, summarise_quality, summarise_session
+from sedreport.oximetry import clean_oximetry
 from sedreport.session import Session
 
 #: Trailing window of the respiratory-rate trend, seconds (common practice: rate per minute).
@@ -64,6 +65,14 @@ def empty_breaths() -> BreathTable:
     return BreathTable(z, z, z, z, z, z, z, z, np.empty(0, dtype=bool), ())
 
 
+def with_oximetry(trends: Trends, session: Session, criteria: Criteria) -> Trends:
+    """The trends with the SpO2/pulse cleaned by the active criteria's ``oximetry`` rules."""
+    if session.spo2 is None or session.spo2.time_s.size == 0:
+        return trends
+    spo2, pulse, artefact = clean_oximetry(session.spo2, criteria)
+    return replace(trends, spo2_pct=spo2, pulse_bpm=pulse, spo2_artefact=artefact)
+
+
 def analyse_session(session: Session, criteria: Criteria | str | Path | None = None) -> Analysis:
     """Analyse one session: breaths, trends, baseline, episodes, summary and quality.
 
@@ -95,7 +104,9 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
     gap_s = crit.signal_loss.co2_gap_s
     co2 = session.co2
     breaths = find_breaths(co2, gap_s=gap_s) if co2 is not None else empty_breaths()
-    trends = compute_trends(session, breaths, rr_window_s=RR_WINDOW_S, gap_s=gap_s)
+    trends = with_oximetry(
+        compute_trends(session, breaths, rr_window_s=RR_WINDOW_S, gap_s=gap_s), session, crit
+    )
     baseline = estimate_baseline(session, breaths, window_s=BASELINE_WINDOW_S, gap_s=gap_s)
     episodes = detect_episodes(session, breaths, trends, baseline, crit)
     quality = summarise_quality(session, breaths, trends, baseline, crit)

@@ -89,6 +89,26 @@ class DesaturationCriteria:
 
 
 @dataclass(frozen=True)
+class OximetryCriteria:
+    """What counts as no SpO2 reading and the artefact rules of :mod:`sedreport.oximetry`."""
+
+    min_reading_pct: float
+    spike_min_pct: float
+    spike_return_pct: float
+    spike_max_s: float
+    drop_min_pct: float
+    drop_steady_s: float
+    drop_max_s: float
+    flat_s: float
+    flat_below_pct: float
+    acquisition_s: float
+    startup_s: float
+    startup_after_s: float
+    acquisition_tolerance_pct: float
+    pulse_max_bpm: float
+
+
+@dataclass(frozen=True)
 class RebreathingCriteria:
     """Inspired CO2 (FiCO2) above ``fico2_above_mmHg``, sustained."""
 
@@ -131,6 +151,7 @@ _SECTIONS: dict[str, type] = {
     "apnoea": ApnoeaCriteria,
     "hypoventilation": HypoventilationCriteria,
     "desaturation": DesaturationCriteria,
+    "oximetry": OximetryCriteria,
     "rebreathing": RebreathingCriteria,
     "obstruction": ObstructionCriteria,
     "signal_loss": SignalLossCriteria,
@@ -158,6 +179,22 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "min_duration_s": _Spec("s", 0, 600),
         "severe_below_pct": _Spec("%", 50, 95),
         "prolonged_s": _Spec("s", 1, 900),
+    },
+    "oximetry": {
+        "min_reading_pct": _Spec("%", 1, 70),
+        "spike_min_pct": _Spec("%", 2, 50),
+        "spike_return_pct": _Spec("%", 0, 10),
+        "spike_max_s": _Spec("s", 1, 120),
+        "drop_min_pct": _Spec("%", 2, 60),
+        "drop_steady_s": _Spec("s", 0, 120),
+        "drop_max_s": _Spec("s", 1, 600),
+        "flat_s": _Spec("s", 30, 3600),
+        "flat_below_pct": _Spec("%", 50, 101),
+        "acquisition_s": _Spec("s", 0, 120),
+        "startup_s": _Spec("s", 0, 600),
+        "startup_after_s": _Spec("s", 1, 3600),
+        "acquisition_tolerance_pct": _Spec("%", 0, 20),
+        "pulse_max_bpm": _Spec("1/min", 100, 400),
     },
     "rebreathing": {
         "fico2_above_mmHg": _Spec("mmHg", 0.5, 30),
@@ -190,6 +227,8 @@ _RELATIONS: tuple[tuple[str, str, str], ...] = (
     ("desaturation.severe_below_pct", "desaturation.spo2_below_pct", "the severe level is lower"),
     ("desaturation.min_duration_s", "desaturation.prolonged_s", "the minor tier must be shorter"),
     ("signal_loss.co2_gap_s", "signal_loss.min_duration_s", "a reported loss is at least a gap"),
+    ("oximetry.spike_return_pct", "oximetry.spike_min_pct", "a return must be nearer than a step"),
+    ("oximetry.spike_return_pct", "oximetry.drop_min_pct", "a return must be nearer than a fall"),
 )
 _TOP_KEYS = {"format", "name", "description", *_SECTIONS}
 _ENTRY_KEYS = {"value", "unit", "source", "note"}
@@ -205,7 +244,7 @@ class Criteria:
         Identity of the file (``sha256`` of its bytes).
     items : tuple of Criterion
         Every threshold with unit, source and note, in file order.
-    apnoea, hypoventilation, desaturation, rebreathing, obstruction, signal_loss, linking
+    apnoea, hypoventilation, desaturation, oximetry, rebreathing, obstruction, signal_loss, linking
         Typed sections: ``criteria.apnoea.min_duration_s`` and so on.
     """
 
@@ -217,6 +256,7 @@ class Criteria:
     apnoea: ApnoeaCriteria
     hypoventilation: HypoventilationCriteria
     desaturation: DesaturationCriteria
+    oximetry: OximetryCriteria
     rebreathing: RebreathingCriteria
     obstruction: ObstructionCriteria
     signal_loss: SignalLossCriteria

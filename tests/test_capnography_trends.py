@@ -77,12 +77,13 @@ def test_trend_values_are_the_valid_breaths():
 def test_trends_include_cleaned_oximetry_and_handle_missing_streams():
     t = np.arange(0.0, 120.0)
     spo2 = np.full(t.size, 97.0) + (np.arange(t.size) % 2)
-    spo2[50] = 0.0
+    spo2[50] = 0.0  # the probe's "no reading": missing, not an artefact
+    spo2[80:83] = 80.0  # a 17-point fall that is back 3 s later: the drop rule's artefact
     ox = OximetryTrend(t, spo2, 70.0 + np.arange(t.size) % 3, 1.0)
     tr = compute_trends(_session(None, ox), find_breaths(make_trace(TraceSpec(duration_s=60))[0]))
     assert tr.rr_time_s.size == 0 and tr.rr_per_min.size == 0
-    assert tr.spo2_artefact[50] and np.isnan(tr.spo2_pct[50])
-    assert tr.spo2_artefact.sum() == 1
+    assert not tr.spo2_artefact[50] and np.isnan(tr.spo2_pct[50])
+    assert np.flatnonzero(tr.spo2_artefact).tolist() == [80, 81, 82]
     cap, _ = make_trace(TraceSpec(duration_s=60))
     tr2 = compute_trends(_session(cap), find_breaths(cap))
     assert tr2.spo2_time_s.size == 0 and tr2.spo2_artefact.dtype == bool

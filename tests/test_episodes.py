@@ -259,14 +259,28 @@ def test_desaturation_minimum_duration_30_s():
     assert detect_desaturation(make_trends(t, v), CRIT) == []
 
 
-def test_artefact_and_nan_never_count_as_recovery():
+def test_artefact_never_counts_as_recovery():
     t, v = spo2_case()
-    v[(t >= 110) & (t <= 120)] = np.nan
     art = np.zeros(t.size, dtype=bool)
-    art[t == 125] = True
-    v[t == 125] = 99.0  # an impossible jump marked as artefact
+    art[(t >= 124) & (t <= 126)] = True
+    v[art] = np.nan  # a spike marked as artefact: skipped, neither low nor recovery
     found = detect_desaturation(make_trends(t, v, art), CRIT)
     assert [(f.start_s, f.end_s) for f in found] == [(100.0, 141.0)]
+
+
+def test_no_reading_is_never_bridged():
+    """Samples without a reading (NaN, not artefact) end a low run; the low run after them is
+    a new episode: 100-160 s low with no reading at 130-134 s gives two 30-s pieces."""
+    t = np.arange(0.0, 400.0, 1.0)
+    v = np.full(t.size, 97.0)
+    v[(t >= 100) & (t < 166)] = 88.0
+    v[(t >= 130) & (t < 135)] = np.nan
+    found = detect_desaturation(make_trends(t, v), CRIT)
+    assert [(f.start_s, f.end_s, f.resolved) for f in found] == [
+        (100.0, 130.0, False),
+        (135.0, 166.0, True),
+    ]
+    assert "reading was lost" in found[0].notes[0]
 
 
 def test_desaturation_unresolved_at_end():

@@ -49,10 +49,11 @@ def test_spo2_target_patient_own_and_non_copd_default(cap):
     assert other.target_pct == (94.0, 98.0) and other.below_pct == pytest.approx(50.0)
 
 
-def test_spo2_artefacts_are_counted_not_used(cap):
+def test_spo2_no_readings_are_counted_not_used(cap):
+    # 0 is the oximeter's "no reading" (common practice): missing, counted, never a value.
     spo2 = np.r_[np.full(40, 90.0), [0.0, 0.0], np.full(40, 91.0)]
     sp = visit_indices(make_session(cap, spo2=spo2), SETTINGS).spo2
-    assert sp.artefact_samples == 2 and sp.samples == 80
+    assert sp.missing_samples == 2 and sp.artefact_samples == 0 and sp.samples == 80
 
 
 def test_blood_gas_gradient(cap):
@@ -288,5 +289,5 @@ def test_robust_sd_of_normal_data_and_one_outlier():
 
 def test_spo2_without_a_valid_sample_gives_no_shares(cap):
     sp = visit_indices(make_session(cap, spo2=np.zeros(30)), SETTINGS).spo2
-    assert sp.samples == 0 and sp.artefact_samples == 30
+    assert sp.samples == 0 and sp.missing_samples == 30 and sp.artefact_samples == 0
     assert np.isnan(sp.in_target_pct) and np.isnan(sp.stat.median)

@@ -125,12 +125,28 @@ class Spo2Artefact:
 
 
 @dataclass(frozen=True)
+class ProbeOff:
+    """The oximeter shows no reading (exported as 0, pulse 0) in the window; the first
+    ``startup_s`` of readings after it read up to ``startup_low_pct`` below the true value,
+    climbing to it (a probe acquiring again)."""
+
+    start_s: float
+    duration_s: float
+    startup_s: float = 8.0
+    startup_low_pct: float = 8.0
+
+
+@dataclass(frozen=True)
 class CaseSpec:
     """Everything needed to simulate and write one invented session.
 
     ``doses`` rows are ``(time_s, drug, dose, unit, route)``; ``events`` rows are
     ``(time_s, event, value_or_None, note)``. ``co2_offset_s`` / ``spo2_offset_s`` are the
     ``clock_offset_s`` written to ``session.yaml`` (file times = session times - offset).
+    The oximeter: ``spo2_update_s`` holds each displayed value that long at 1 Hz (real monitors
+    update every few seconds); ``paced_bpm`` makes the pulse sit on one value (a paced heart);
+    ``spo2_startup_s`` / ``spo2_startup_low_pct`` make the first readings of the file read low
+    and climb (a probe acquiring). The defaults leave all of that off.
     """
 
     session_id: str
@@ -156,6 +172,10 @@ class CaseSpec:
     spo2_offset_s: float = 0.0
     barometric_mmHg: float = 760.0
     description: str = ""
+    spo2_update_s: int = 1
+    paced_bpm: float | None = None
+    spo2_startup_s: float = 0.0
+    spo2_startup_low_pct: float = 0.0
 
     def planted_of(self, kind: type) -> list:
         """Planted items of one class, in time order."""

@@ -24,6 +24,7 @@ from sedreport.demo.case import (
     Hypoventilation,
     Obstruction,
     Physiology,
+    ProbeOff,
     Rebreathing,
     Spo2Artefact,
 )
@@ -200,6 +201,44 @@ def _make(kind: str, start: float, length: float, rng):
     return Spo2Artefact(start, length)
 
 
+def _busy(planted: list) -> list[tuple[float, float]]:
+    """Time windows of the planted items, with room for a desaturation after an apnoea."""
+    out = []
+    for p in planted:
+        start = getattr(p, "start_s", getattr(p, "onset_s", 0.0))
+        length = getattr(p, "duration_s", getattr(p, "pause_s", 0.0))
+        out.append((start - 30.0, start + length + 180.0))
+    return out
+
+
+def _oximeter(recipe: dict, index: int, seed: int, planted: list, limits) -> tuple[dict, list]:
+    """Monitor-export fields and probe-off plants of one case from the optional ``oximeter``
+    recipe section, drawn from a generator of their own (the other draws do not move)."""
+    spec = recipe.get("oximeter")
+    if not spec:
+        return {}, []
+    rng = case_rng(seed, f"cohort-{index}-oximeter")
+    u = int(spec.get("display_update_s", 1))
+    fields: dict = {"spo2_update_s": u}
+    if rng.random() < float(spec.get("paced", 0.0)):
+        fields["paced_bpm"] = float(rng.choice([60.0, 70.0, 80.0]))
+    if rng.random() < float(spec.get("startup", 0.0)):
+        fields["spo2_startup_s"] = float(rng.uniform(*spec["startup_s"]))
+        fields["spo2_startup_low_pct"] = float(rng.uniform(*spec["startup_low_pct"]))
+    lo, hi = limits
+    windows = _busy(planted)
+    out = []
+    for _ in range(int(rng.poisson(float(spec.get("probe_off_per_case", 0.0))))):
+        length = u * int(rng.integers(1, int(spec["probe_off_s"][1] // u) + 1))
+        length = max(length, float(spec["probe_off_s"][0]))
+        start = u * round(rng.uniform(lo, hi - length - 60.0) / u)
+        startup = u * int(rng.integers(0, 3))
+        if _free(windows, start, start + length + startup, margin=60.0):
+            windows.append((start, start + length + startup))
+            out.append(ProbeOff(float(start), float(length), float(startup), rng.uniform(4, 10)))
+    return fields, out
+
+
 def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
     """The ``index``-th case of a cohort (deterministic in ``seed`` and ``index``)."""
     rng = case_rng(seed, f"cohort-{index}")
@@ -223,6 +262,7 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
         doses,
         (t0 + 60.0, duration - 120.0),
     )
+    ox_fields, ox_plants = _oximeter(recipe, index, seed, planted, (t0 + 60.0, duration - 120.0))
     copd = "copd" in conds
     oxy = OxygenParams(
         aa_gradient_mmHg=rng.uniform(30, 40) if copd else rng.uniform(8, 15),
@@ -269,10 +309,11 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
         physiology=phys,
         doses=tuple(doses),
         events=tuple(sorted(events, key=lambda e: e[0])),
-        planted=tuple(planted),
+        planted=tuple(planted + ox_plants),
         flow_l_min=float(override.get("flow_l_min", _pick(rng, recipe["oxygen_flow_l_min"]))),
         co2_rate_hz=float(rng.choice(recipe["co2_rate_hz"])),
         description=f"Invented cohort case, regimen {regimen}.",
+        **ox_fields,
     )
 
 

@@ -14,6 +14,9 @@ Sources:
   for human blood O2 dissociation computations", J Appl Physiol 1979.
 * FiO2 by nasal cannula of about 0.21 + 0.04 per L/min (common practice rule of thumb).
 * Lung-to-finger delay of the order of 20-30 s (from memory).
+* What a real 1 Hz export looks like (values held for about 4 s between display updates, 0 for
+  "no reading", low start-up readings after the probe acquires, a paced pulse on one value):
+  counted in 128 recorded sedation cases, /work/shared/real-oximetry/README.md.
 """
 
 from __future__ import annotations
@@ -174,3 +177,27 @@ def plant_motion_artefact(
     spo2[mask] = np.clip(72.0 + np.cumsum(rng.normal(0.0, 4.0, n)), 55.0, 88.0)
     pulse[mask] = np.clip(pulse[mask] + rng.normal(25.0, 20.0, n), 30.0, 190.0)
     return spo2, pulse
+
+
+def hold_display(values: np.ndarray, update_s: int, first: int = 0) -> np.ndarray:
+    """Sample and hold on the 1 s grid: each displayed value is held for ``update_s`` seconds
+    (a monitor that updates its display every few seconds, exported at 1 Hz); updates fall on
+    ``first`` (the index of the file's first second) and every ``update_s`` after it."""
+    values = np.asarray(values)
+    if update_s <= 1:
+        return values.copy()
+    k = np.arange(values.size)
+    return values[np.where(k < first, k, first + ((k - first) // update_s) * update_s)]
+
+
+def startup_ramp(spo2: np.ndarray, window: np.ndarray, low_pct: float) -> np.ndarray:
+    """Readings of a probe acquiring: inside ``window`` (a boolean run), start ``low_pct``
+    below the value reached at its end and climb linearly to it."""
+    out = np.asarray(spo2, dtype=float).copy()
+    idx = np.flatnonzero(window)
+    if idx.size == 0 or low_pct <= 0:
+        return out
+    end = min(idx[-1] + 1, out.size - 1)
+    frac = np.arange(idx.size) / idx.size
+    out[idx] = out[end] - low_pct * (1.0 - frac)
+    return out

@@ -16,6 +16,7 @@ from sedreport.demo.case import (
     MouthBreathing,
     Obstruction,
     Physiology,
+    ProbeOff,
     Rebreathing,
     Spo2Artefact,
 )
@@ -242,6 +243,8 @@ def _rebreathing_under_drapes() -> CaseSpec:
         co2_rate_hz=100.0,
         co2_units="kPa",
         spo2_offset_s=-2.0,
+        spo2_update_s=4,
+        paced_bpm=70.0,
     )
 
 
@@ -250,7 +253,8 @@ def _gap_and_probe_artefact() -> CaseSpec:
         session_id="DEMO-COLON-06",
         scenario="gap_and_probe_artefact",
         description="Propofol colonoscopy with a disconnected CO2 sampling line, an SpO2 probe "
-        "motion artefact and a mouth-breathing stretch; no respiratory episode.",
+        "motion artefact, low start-up readings, the oximeter probe off twice (0 exported) and "
+        "a mouth-breathing stretch; no respiratory episode.",
         started="2026-09-15T11:00:00+02:00",
         duration_s=1500.0,
         area="endoscopy",
@@ -282,6 +286,8 @@ def _gap_and_probe_artefact() -> CaseSpec:
         planted=(
             Gap(source="co2", start_s=822.0, duration_s=75.0),
             Spo2Artefact(start_s=1050.0, duration_s=30.0),
+            ProbeOff(start_s=942.0, duration_s=8.0, startup_s=8.0, startup_low_pct=9.0),
+            ProbeOff(start_s=1142.0, duration_s=4.0, startup_s=4.0, startup_low_pct=7.0),
             MouthBreathing(start_s=1200.0, duration_s=120.0),
         ),
         flow_l_min=2.0,
@@ -290,6 +296,9 @@ def _gap_and_probe_artefact() -> CaseSpec:
         spo2_time_style="iso8601",
         co2_offset_s=-1.5,
         spo2_offset_s=2.0,
+        spo2_update_s=4,
+        spo2_startup_s=40.0,
+        spo2_startup_low_pct=12.0,
     )
 
 

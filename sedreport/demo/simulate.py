@@ -29,6 +29,7 @@ from sedreport.demo.case import (
     Rebreathing,
     Spo2Artefact,
 )
+from sedreport.demo.monitor import export_like_monitor
 from sedreport.demo.pharmacology import respiratory_effect
 
 #: Arterial minus end-tidal CO2 in healthy lungs, mmHg (from memory: a few mmHg).
@@ -287,6 +288,7 @@ def _oximetry(spec: CaseSpec, schedule: BreathSchedule, alv_mmHg, tracks: Tracks
     pulse_q = ox.quantise(pulse, 250.0)
     spo2_q, pulse_q = ox.plant_motion_artefact(spo2_q, pulse_q, art, rng)
     spo2_q, pulse_q = ox.quantise(spo2_q, 100.0), ox.quantise(pulse_q, 250.0)
+    spo2_q, pulse_q, art = export_like_monitor(spec, grid, t0, spo2_q, pulse_q, art)
     return grid[keep], spo2_q[keep], pulse_q[keep], art[keep]
 
 

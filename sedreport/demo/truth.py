@@ -5,7 +5,9 @@ conventions of DESIGN.md. Episodes are what was PLANTED; where a planted episode
 (hypoventilation, rebreathing) its edges are the first and last breath whose noise-free planted
 value meets the default criterion (EtCO2 > 50 mmHg or >= 10 mmHg over the pre-dose baseline;
 FiCO2 > 5 mmHg), so that scorers compare like with like. A ``signal_loss`` episode has the gap's source
-(``co2`` / ``spo2``) as its subtype and repeats the entry of ``gaps``.
+(``co2`` / ``spo2``) as its subtype and repeats the entry of ``gaps``; a probe-off stretch of the
+oximeter (readings of 0) whose step between readings exceeds the default SpO2 gap rule (10 s)
+is an ``spo2`` signal loss too. ``artefacts`` lists motion, probe-off and start-up stretches.
 """
 
 from __future__ import annotations
@@ -17,9 +19,11 @@ from sedreport.demo.case import (
     Gap,
     Hypoventilation,
     Obstruction,
+    ProbeOff,
     Rebreathing,
     Spo2Artefact,
 )
+from sedreport.demo.monitor import probe_windows
 from sedreport.demo.simulate import Signals
 
 TRUTH_FORMAT = "sedreport-truth/1"
@@ -29,6 +33,7 @@ HYPERCAPNIA_RISE_MMHG = 10.0
 BRADYPNOEA_PER_MIN = 8.0
 REBREATHING_FICO2_MMHG = 5.0
 DESATURATION_PCT = 90.0
+SPO2_GAP_S = 10.0
 
 
 def _r(x: float, nd: int = 3) -> float:
@@ -136,10 +141,17 @@ def _desaturations(sig: Signals) -> list[dict]:
     return out
 
 
+def _runs(t: np.ndarray, mask: np.ndarray) -> list[tuple[float, float]]:
+    """First and last time of each run of True."""
+    edges = np.diff(np.r_[0, mask.astype(np.int8), 0])
+    starts, stops = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    return [(t[a], t[b - 1]) for a, b in zip(starts, stops, strict=True)]
+
+
 def _artefacts(spec: CaseSpec, sig: Signals) -> list[dict]:
+    t = sig.spo2_time_s
     out = []
     for a in spec.planted_of(Spo2Artefact):
-        t = sig.spo2_time_s
         inside = t[(t >= a.start_s) & (t < a.start_s + a.duration_s)]
         if inside.size:
             out.append(
@@ -150,12 +162,32 @@ def _artefacts(spec: CaseSpec, sig: Signals) -> list[dict]:
                     "kind": a.kind,
                 }
             )
+    if t.size:
+        off, startup = probe_windows(spec, t, float(t[0]))
+        for kind, mask in (("probe_off", off), ("acquisition", startup)):
+            out += [
+                {"source": "spo2", "start_s": _r(a), "end_s": _r(b), "kind": kind}
+                for a, b in _runs(t, mask)
+            ]
+    return sorted(out, key=lambda x: x["start_s"])
+
+
+def probe_off_gaps(spec: CaseSpec, sig: Signals) -> list[dict]:
+    """Each probe-off stretch whose step between readings exceeds the default SpO2 gap rule:
+    from the last reading before it to the first reading after it (``gaps`` entries)."""
+    out = []
+    t, v = sig.spo2_time_s, sig.spo2_pct
+    for p in spec.planted_of(ProbeOff):
+        before = t[(t < p.start_s) & (v > 0)]
+        after = t[(t >= p.start_s + p.duration_s) & (v > 0)]
+        if before.size and after.size and after[0] - before[-1] > SPO2_GAP_S:
+            out.append({"source": "spo2", "start_s": _r(before[-1]), "end_s": _r(after[0])})
     return out
 
 
 def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
     """The truth dictionary of one simulated case (JSON-ready)."""
-    gaps = gap_edges(spec, sig)
+    gaps = gap_edges(spec, sig) + probe_off_gaps(spec, sig)
     keep = recorded_breaths(spec, sig, gaps)
     s = sig.schedule.select(keep)
     episodes = (

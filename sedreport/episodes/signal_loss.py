@@ -3,7 +3,10 @@
 A signal_loss episode runs from the last sample before a gap to the first sample after it
 (DESIGN.md time conventions). Gaps come from the samples alone, by the one gap rule of
 :mod:`sedreport.gaps` with the active criteria's ``signal_loss.co2_gap_s`` / ``spo2_gap_s``;
-SpO2 samples without a reading (NaN) do not count as samples.
+SpO2 samples without a reading (:func:`sedreport.oximetry.mark_oximetry`: the probe's ``0``,
+blanks, impossible values) do not count as samples (a reading marked as artefact does); the first
+and last sample of the SpO2 file bound the stream, so a stretch without a reading at its start
+or end, or a file with no reading at all, is a gap too.
 """
 
 from __future__ import annotations
@@ -13,7 +16,21 @@ import numpy as np
 from sedreport.criteria import Criteria
 from sedreport.episodes._intervals import Finding
 from sedreport.gaps import find_gaps
+from sedreport.oximetry import mark_oximetry
 from sedreport.session import Session
+
+
+def spo2_sample_times(session: Session, criteria: Criteria) -> np.ndarray:
+    """Times (s) that count as SpO2 samples for the gap rule.
+
+    The samples with a reading plus the file's first and last sample times (its bounds).
+    Empty when the session has no SpO2 samples.
+    """
+    if session.spo2 is None or session.spo2.time_s.size == 0:
+        return np.empty(0)
+    t = np.asarray(session.spo2.time_s, dtype=float)
+    read = mark_oximetry(session.spo2, criteria).reading_time_s
+    return np.unique(np.r_[t[0], read, t[-1]])
 
 
 def stream_gaps(session: Session, stream: str, criteria: Criteria) -> tuple[np.ndarray, np.ndarray]:
@@ -30,8 +47,7 @@ def stream_gaps(session: Session, stream: str, criteria: Criteria) -> tuple[np.n
     if stream == "co2" and session.co2 is not None:
         return find_gaps(session.co2.time_s, criteria.signal_loss.co2_gap_s)
     if stream == "spo2" and session.spo2 is not None:
-        t = np.asarray(session.spo2.time_s, dtype=float)
-        return find_gaps(t[np.isfinite(session.spo2.spo2_pct)], criteria.signal_loss.spo2_gap_s)
+        return find_gaps(spo2_sample_times(session, criteria), criteria.signal_loss.spo2_gap_s)
     return np.empty(0), np.empty(0)
 
 
@@ -46,8 +62,9 @@ def detect_signal_loss(session: Session, criteria: Criteria) -> list[Finding]:
         starts, ends = stream_gaps(session, stream, criteria)
         for a, b in zip(starts, ends, strict=True):
             if b - a >= min_s:
+                what = "SpO2 reading" if stream == "spo2" else "CO2 data"
                 note = (
-                    f"No usable {stream.upper()} data for {b - a:.1f} s; nothing about the "
+                    f"No usable {what} for {b - a:.1f} s; nothing about the "
                     "patient can be read from the record in this interval."
                 )
                 out.append(Finding("signal_loss", stream, float(a), float(b), (note,)))

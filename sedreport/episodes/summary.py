@@ -9,7 +9,7 @@ counted against is a field beside it.
 from __future__ import annotations
 
 from collections import Counter
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
@@ -18,7 +18,9 @@ from sedreport.criteria import Criteria
 from sedreport.episodes.linking import usable_spo2
 from sedreport.episodes.model import EPISODE_KINDS, SEVERITY_TIERS, Episode
 from sedreport.episodes.severity import tier_rank
+from sedreport.episodes.signal_loss import spo2_sample_times
 from sedreport.gaps import covered_s, gap_findings
+from sedreport.oximetry import mark_oximetry
 from sedreport.session import QualityFinding, Session, SourceInfo
 
 
@@ -104,11 +106,19 @@ class Quality:
         Breaths unusable for trends; ``invalid_by_reason`` counts them per reason.
     invalid_by_reason : dict of str to int
     spo2_artefact_samples : int
-        SpO2 samples marked as artefact.
+        SpO2 readings marked by an artefact rule (:mod:`sedreport.oximetry`).
     criteria : CriteriaRef
     baseline : Baseline
     limitations : tuple of str
         What could not be assessed and why.
+    spo2_samples : int
+        SpO2 samples in the file.
+    spo2_no_reading_samples : int
+        SpO2 samples without a reading (blank, the probe's 0, impossible values): missing
+        data, set to NaN in cleaning; ``spo2_blank_samples`` of them were blank cells.
+    spo2_blank_samples : int
+    spo2_artefact_by_rule : dict of str to int
+        Readings marked per artefact rule (``acquisition``, ``spike``, ``flat``).
     """
 
     sources: tuple[SourceInfo, ...]
@@ -122,6 +132,10 @@ class Quality:
     criteria: CriteriaRef
     baseline: Baseline
     limitations: tuple[str, ...]
+    spo2_samples: int = 0
+    spo2_no_reading_samples: int = 0
+    spo2_blank_samples: int = 0
+    spo2_artefact_by_rule: dict[str, int] = field(default_factory=dict)
 
     @property
     def gaps(self) -> tuple[QualityFinding, ...]:
@@ -140,6 +154,10 @@ class Quality:
                 "by_reason": dict(self.invalid_by_reason),
             },
             "spo2_artefact_samples": self.spo2_artefact_samples,
+            "spo2_samples": self.spo2_samples,
+            "spo2_no_reading_samples": self.spo2_no_reading_samples,
+            "spo2_blank_samples": self.spo2_blank_samples,
+            "spo2_artefact_by_rule": dict(self.spo2_artefact_by_rule),
             "criteria": asdict(self.criteria),
             "baseline": asdict(self.baseline),
             "limitations": list(self.limitations),
@@ -169,6 +187,13 @@ def time_below_s(t: np.ndarray, v: np.ndarray, threshold: float, max_step_s: flo
         return 0.0
     dt = np.diff(t)
     return float(np.sum(dt[(v[:-1] < threshold) & (dt <= max_step_s)]))
+
+
+def _non_artefact_spo2(trends: Trends) -> tuple[np.ndarray, np.ndarray]:
+    """Times (s) and values (%) of every SpO2 sample but the artefacts: samples without a
+    reading stay (NaN), so a low reading is held only until the reading is lost."""
+    keep = ~np.asarray(trends.spo2_artefact, dtype=bool)
+    return np.asarray(trends.spo2_time_s, float)[keep], np.asarray(trends.spo2_pct, float)[keep]
 
 
 def _pct(part: float, whole: float) -> float | None:
@@ -211,7 +236,9 @@ def summarise_session(
         min_spo2_pct=_finite_or_none(spo2_v, np.min),
         spo2_threshold_pct=float(threshold),
         time_below_spo2_threshold_s=(
-            time_below_s(spo2_t, spo2_v, threshold, gap.spo2_gap_s) if spo2_t.size else None
+            time_below_s(*_non_artefact_spo2(trends), threshold, gap.spo2_gap_s)
+            if spo2_t.size
+            else None
         ),
         max_etco2_mmHg=_finite_or_none(breaths.etco2_mmHg[valid], np.max),
         median_rr_per_min=_finite_or_none(breaths.rr_per_min[valid], np.median),
@@ -264,15 +291,15 @@ def _limitations(session: Session, breaths: BreathTable, baseline: Baseline) -> 
 def stream_gap_findings(session: Session, criteria: Criteria) -> list[QualityFinding]:
     """Gap findings of the CO2 and SpO2 streams by the criteria's gap rule.
 
-    SpO2 samples without a reading (NaN) are not samples.
+    SpO2 samples without a usable reading are not samples
+    (:func:`sedreport.episodes.signal_loss.spo2_sample_times`).
     """
     rule = criteria.signal_loss
     out = []
     if session.co2 is not None:
         out.extend(gap_findings(session.co2.time_s, "co2", rule.co2_gap_s))
     if session.spo2 is not None:
-        t = np.asarray(session.spo2.time_s, dtype=float)
-        out.extend(gap_findings(t[np.isfinite(session.spo2.spo2_pct)], "spo2", rule.spo2_gap_s))
+        out.extend(gap_findings(spo2_sample_times(session, criteria), "spo2", rule.spo2_gap_s))
     return out
 
 
@@ -286,6 +313,7 @@ def summarise_quality(
     """The :class:`Quality` of an Analysis."""
     valid = np.asarray(breaths.valid, dtype=bool)
     reasons = Counter(r for r, ok in zip(breaths.reason, valid, strict=True) if not ok)
+    marks = mark_oximetry(session.spo2, criteria) if session.spo2 is not None else None
     return Quality(
         sources=tuple(session.sources),
         findings=(*session.findings, *stream_gap_findings(session, criteria)),
@@ -298,4 +326,8 @@ def summarise_quality(
         criteria=CriteriaRef(criteria.name, criteria.path, criteria.sha256),
         baseline=baseline,
         limitations=tuple(_limitations(session, breaths, baseline)),
+        spo2_samples=int(marks.time_s.size) if marks else 0,
+        spo2_no_reading_samples=marks.no_reading_samples if marks else 0,
+        spo2_blank_samples=marks.blank_samples if marks else 0,
+        spo2_artefact_by_rule=marks.artefact_by_rule if marks else {},
     )

@@ -140,6 +140,20 @@ CRITERION_WORDS: dict[str, str] = {
     "desaturation.min_duration_s": "shortest episode counted",
     "desaturation.severe_below_pct": "severe: SpO2 below",
     "desaturation.prolonged_s": "prolonged from",
+    "oximetry.min_reading_pct": "SpO2 below this is no reading",
+    "oximetry.spike_min_pct": "spike: step of at least",
+    "oximetry.spike_return_pct": "spike: back within",
+    "oximetry.spike_max_s": "spike: back within (time)",
+    "oximetry.drop_min_pct": "drop: fall in one update of at least",
+    "oximetry.drop_steady_s": "drop: only from a level steady for",
+    "oximetry.drop_max_s": "drop: back within (time)",
+    "oximetry.flat_s": "flat line: unchanged for",
+    "oximetry.flat_below_pct": "flat line: only below",
+    "oximetry.acquisition_s": "after a dropout: readings judged for",
+    "oximetry.startup_s": "after the probe is put on: readings judged for",
+    "oximetry.startup_after_s": "probe off when no reading for",
+    "oximetry.acquisition_tolerance_pct": "start-up reading: lower than what follows by",
+    "oximetry.pulse_max_bpm": "pulse above this is no reading",
     "rebreathing.fico2_above_mmHg": "FiCO2 above",
     "rebreathing.min_duration_s": "shortest episode counted",
     "rebreathing.max_interruption_s": "longest normal spell inside one episode",
@@ -220,10 +234,19 @@ def quality_flowables(analysis: Analysis, width_pt: float) -> list:
         Paragraph(
             para_text(
                 f"Breaths not usable for trends: {_invalid_text(q.invalid_breaths, q.invalid_by_reason)}. "
-                f"SpO2 samples marked as artefact: {q.spo2_artefact_samples}."
+                f"SpO2 samples marked as artefact: {q.spo2_artefact_samples}"
+                f"{_by_rule_text(q.spo2_artefact_by_rule)}. "
+                f"SpO2 samples without a reading (blank, 0 or impossible; kept as missing, "
+                f"never a nadir): {q.spo2_no_reading_samples} of {q.spo2_samples}."
             ),
             styles.BODY,
         )
     )
     out += criteria_flowables(analysis, width_pt)
     return out
+
+
+def _by_rule_text(by_rule: dict[str, int]) -> str:
+    """`` (spike 3, flat 0)`` for the non-zero rules; empty when none marked anything."""
+    parts = [f"{rule} {n}" for rule, n in by_rule.items() if n]
+    return f" ({', '.join(parts)})" if parts else ""
