@@ -8,9 +8,10 @@ stated in :class:`DetectionSettings`):
 2. Each segment is smoothed lightly with a centred moving mean (0.15 s), which removes white
    noise and single-sample spikes but keeps the upstroke.
 3. The patient's own levels are tracked in 1 s blocks: the inspired baseline is the 10th
-   percentile of the block minima and the plateau the 80th percentile of the block maxima,
-   both over a centred 30 s window, so the thresholds follow baseline drift and
-   nasal-cannula dilution (plateaus of 10-20 mmHg).
+   percentile of the block minima over a centred 30 s window, the plateau the smaller of
+   the 80th percentiles of the block maxima over the 15 s before and the 15 s after, so the
+   thresholds follow baseline drift, nasal-cannula dilution (plateaus of 10-20 mmHg) and an
+   abrupt drop of the plateau (mouth breathing) from its first breath.
 4. Hysteresis: a breath begins when the smoothed CO2 rises above
    ``baseline + max(0.5 * amplitude, 3 mmHg)`` and ends when it falls below
    ``baseline + max(0.3 * amplitude, 1.5 mmHg)``. The absolute floors mean that noise or
@@ -151,6 +152,27 @@ def smooth(co2_mmHg: np.ndarray, fs_hz: float, settings: DetectionSettings) -> n
     return uniform_filter1d(co2_mmHg.astype(float), size=width, mode="nearest")
 
 
+def _shift(x: np.ndarray, k: int) -> np.ndarray:
+    """``x`` moved by ``k`` places (positive: later values come earlier), edges repeated."""
+    if k == 0 or x.size == 0:
+        return x
+    if k > 0:
+        return np.r_[x[k:], np.full(min(k, x.size), x[-1])][: x.size]
+    return np.r_[np.full(min(-k, x.size), x[0]), x[:k]][: x.size]
+
+
+def _one_sided_min(x: np.ndarray, pct: float, size: int) -> np.ndarray:
+    """Smaller of the trailing and the leading running percentile over ``size`` blocks.
+
+    Right after an abrupt drop of the plateau (mouth breathing past a cannula) the leading
+    window already holds only small breaths, right before an abrupt rise the trailing one
+    does: the level follows the drop at once instead of half a window late.
+    """
+    centred = percentile_filter(x, pct, size=size, mode="nearest")
+    half = size // 2
+    return np.minimum(_shift(centred, -half), _shift(centred, half))
+
+
 def _levels(t: np.ndarray, x: np.ndarray, fs_hz: float, s: DetectionSettings):
     """Per-sample high and low hysteresis levels of one smoothed segment, mmHg."""
     n = x.size
@@ -160,7 +182,7 @@ def _levels(t: np.ndarray, x: np.ndarray, fs_hz: float, s: DetectionSettings):
     bmin = np.minimum.reduceat(x, starts)
     size = max(1, int(round(s.level_window_s / s.block_s)))
     size = min(size | 1, (starts.size | 1))
-    plateau = percentile_filter(bmax, s.plateau_pct, size=size, mode="nearest")
+    plateau = _one_sided_min(bmax, s.plateau_pct, size // 2 | 1)
     base = percentile_filter(bmin, s.baseline_pct, size=size, mode="nearest")
     centre = np.minimum(starts + blk // 2, n - 1)
     amp = np.clip(plateau - base, 0.0, None)
