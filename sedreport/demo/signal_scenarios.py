@@ -111,7 +111,7 @@ def line_off_hyperventilation() -> CaseSpec:
         ),
         planted=(
             Disconnection(start_s=600.0, duration_s=80.0),
-            Etco2Fall(start_s=960.0, duration_s=150.0, fall_mmHg=16.0, ramp_s=30.0),
+            Etco2Fall(start_s=960.0, duration_s=150.0, fall_mmHg=16.0, ramp_s=12.0),
         ),
         flow_l_min=3.0,
         co2_rate_hz=25.0,

@@ -61,6 +61,7 @@ class Tracks:
     obstructed: np.ndarray
     flow_l_min: np.ndarray
     plateau_sd_mmHg: np.ndarray
+    etco2_fall_mmHg: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -113,10 +114,12 @@ def build_tracks(spec: CaseSpec) -> Tracks:
     # Nasal-cannula O2 dilutes the sampled gas: lower, noisier plateau (invented linear model).
     dilution = np.where(cannula, 1.0 - 0.035 * flow, 1.0)
     sd = 0.2 + (0.12 * flow if cannula else 0.0)
+    fall = np.zeros_like(grid)
     for f in spec.planted_of(Etco2Fall):
         w = _trapezoid(grid, f.start_s, f.start_s + f.duration_s, f.ramp_s)
-        etco2 = etco2 - f.fall_mmHg * w
+        fall = fall + f.fall_mmHg * w
         rr = rr + f.rr_rise_per_min * w
+    etco2 = etco2 - fall
     for m in spec.planted_of(MouthBreathing):
         w = _trapezoid(grid, m.start_s, m.start_s + m.duration_s, m.ramp_s)
         dilution = dilution * (1.0 - w * (1.0 - m.dilution))
@@ -132,7 +135,7 @@ def build_tracks(spec: CaseSpec) -> Tracks:
     for o in spec.planted_of(Obstruction):
         obstructed |= (grid >= o.start_s) & (grid < o.start_s + o.duration_s)
     return Tracks(
-        grid, rr, etco2, dilution, fico2, obstructed, flow, np.broadcast_to(sd, grid.shape)
+        grid, rr, etco2, dilution, fico2, obstructed, flow, np.broadcast_to(sd, grid.shape), fall
     )
 
 
@@ -170,6 +173,7 @@ def schedule_breaths(
         tracks.flow_l_min.tolist(),
         tracks.fico2_mmHg.tolist(),
     )
+    fall_t = tracks.etco2_fall_mmHg.tolist()
     last_k = tracks.grid_s.size - 1
     z = rng.standard_normal((int(spec.duration_s / 1.5) + 16, 7)).tolist()
     assist_until = -1.0
@@ -198,6 +202,8 @@ def schedule_breaths(
         dil = dil_t[k] * (1.0 + 0.01 * flow_t[k] * zn[5])
         et = et_alv * min(dil, 1.0)
         slope = phys.slope_mmHg_s * (o.slope_factor if o else 1.0) * dil * np.exp(0.1 * zn[6])
+        if fall_t[k] > 0:  # a lower alveolar CO2 gives a proportionally lower phase III slope
+            slope *= et_t[k] / (et_t[k] + fall_t[k])
         # The plateau flattens after ~3 s of a long expiratory pause, and never starts below
         # 40 % (normal) / 35 % (obstructive) of EtCO2.
         rise = min(slope * (min(tp, 3.0) + 0.1 * max(tp - 3.0, 0.0)), (0.65 if o else 0.6) * et)

@@ -11,7 +11,7 @@ from sedreport.episodes.desaturation import detect_desaturation
 from sedreport.episodes.etco2_fall import detect_etco2_fall
 from sedreport.episodes.hypoventilation import detect_hypoventilation
 from sedreport.episodes.linking import link_episode
-from sedreport.episodes.low_amplitude import detect_low_amplitude
+from sedreport.episodes.low_amplitude import detect_low_amplitude, outside_stretches
 from sedreport.episodes.model import EPISODE_KINDS, Episode
 from sedreport.episodes.signal_loss import detect_signal_loss, stream_gaps
 from sedreport.episodes.waveform import detect_obstruction, detect_rebreathing
@@ -50,7 +50,7 @@ def find_findings(
         *detect_etco2_fall(breaths, baseline, gs, ge, criteria, low_amplitude=low_s),
         *detect_desaturation(trends, criteria),
         *detect_rebreathing(breaths, gs, ge, criteria),
-        *detect_obstruction(breaths, baseline, gs, ge, criteria),
+        *detect_obstruction(outside_stretches(breaths, low_s), baseline, gs, ge, criteria),
         *detect_signal_loss(session, criteria),
     ]
     return sorted(found, key=lambda f: (f.start_s, EPISODE_KINDS.index(f.kind), f.end_s))

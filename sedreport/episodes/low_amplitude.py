@@ -19,6 +19,8 @@ are choices of this tool, stated in the criteria file.
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from sedreport.capnography.model import Baseline, BreathTable, Trends
@@ -70,6 +72,19 @@ def rate_unchanged(breaths: BreathTable, sel: np.ndarray, baseline: Baseline, cr
         return True
     change_pct = abs(float(np.median(rr)) / ref_rr - 1.0) * 100.0
     return change_pct <= criteria.low_amplitude.rate_change_pct
+
+
+def outside_stretches(breaths: BreathTable, spans: list[tuple[float, float]]) -> BreathTable:
+    """The breath table with the breaths of the given stretches (s) marked not valid.
+
+    Shape and level detectors (obstruction, EtCO2 fall) use it: inside a low-amplitude stretch
+    the sampled EtCO2 and plateau shape say how the gas reached the cannula, not how the
+    patient breathed.
+    """
+    valid = np.asarray(breaths.valid, dtype=bool).copy()
+    for a, b in spans:
+        valid &= ~((breaths.end_s >= a) & (breaths.start_s <= b))
+    return dataclasses.replace(breaths, valid=valid)
 
 
 def small_breath_runs(
