@@ -88,7 +88,7 @@ class DetectionSettings:
     low_floor_mmHg: float = 1.5
     min_low_s: float = 0.15
     min_high_s: float = 0.1
-    min_amplitude_mmHg: float = 4.0
+    min_amplitude_mmHg: float = 5.0
     onset_frac: float = 0.1
     onset_min_frac: float = 0.03
     upper_frac: float = 0.9

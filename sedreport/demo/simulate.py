@@ -256,7 +256,7 @@ def _shape_variety(schedule: BreathSchedule, phys, rng: np.random.Generator) -> 
     stepped = (u[:, 0] < phys.stepped_fraction) & ~schedule.assisted
     shelf_s = np.where(stepped, np.minimum(0.3 + 0.5 * u[:, 1], schedule.plateau_s - 0.6), 0.0)
     shelf_s = np.clip(shelf_s, 0.0, None)
-    shelf_mmHg = np.where(shelf_s > 0, 4.0 + 4.0 * u[:, 2], 0.0)
+    shelf_mmHg = np.where(shelf_s > 0, 5.0 + 3.0 * u[:, 2], 0.0)
     hump = (u[:, 3] < phys.hump_fraction) & ~schedule.assisted
     hump_dip = np.where(hump, 0.3 + 0.2 * u[:, 2], 0.0)
     fields = {k: getattr(schedule, k) for k in BreathSchedule.__dataclass_fields__}
