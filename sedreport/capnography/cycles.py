@@ -13,12 +13,16 @@ stated in :class:`DetectionSettings`):
    thresholds follow baseline drift, nasal-cannula dilution (plateaus of 10-20 mmHg) and an
    abrupt drop of the plateau (mouth breathing) from its first breath.
 4. Hysteresis: a breath begins when the smoothed CO2 rises above
-   ``baseline + max(0.5 * amplitude, 3 mmHg)`` and ends when it falls below
-   ``baseline + max(0.3 * amplitude, 1.5 mmHg)``. The absolute floors mean that noise or
-   cardiogenic ripples on a flat trace cannot make breaths.
+   ``baseline + max(0.35 * amplitude, 3 mmHg)`` and ends when it falls below
+   ``baseline + max(0.3 * amplitude, 1.5 mmHg)``. The high level sits low enough that the
+   shallow and partial breaths of clinical nasal capnography (40 % of the usual height) are
+   found; the low level is kept so that a dip between the humps of one expiration does not
+   split it. The absolute floors mean that noise or cardiogenic ripples on a flat trace
+   cannot make breaths.
 5. Cycles separated by less than 0.15 s below the low threshold are merged (a ripple on the
    plateau does not split a breath); cycles shorter than 0.1 s above it, or rising less than
-   4 mmHg from the inspired baseline on either side, are not breaths.
+   5 mmHg from the inspired baseline on either side, are not breaths (cardiogenic bumps of
+   1-3 mmHg with sensor noise on top stay under it; mouth breathing gives 8-15 mmHg).
 
 The cycles are measured into breaths by :mod:`sedreport.capnography.metrics`;
 :func:`sedreport.capnography.breaths.find_breaths` runs both.
@@ -75,6 +79,15 @@ class DetectionSettings:
         Breaths whose EtCO2 exceeds FiCO2 by less than this are marked ``low_plateau``, mmHg.
     clip_min_s : float
         A breath holding the trace maximum at least this long is marked ``clipped``, s.
+    heart_rate_interval_s : float
+        A breath starting less than this after the previous one and less than this before the
+        next (in one segment), and rises less than ``heart_rate_max_rise_mmHg``, is at the
+        heart rate, not a breathing rate, and is marked ``heart_rate`` (cardiogenic
+        oscillations); 1.35 s is 44/min, above adult breathing rates (common practice) and
+        below the 50-120/min of a heart, s.
+    heart_rate_max_rise_mmHg : float
+        Largest rise of such a deflection (cardiogenic oscillations of up to 12 mmHg are seen
+        on recorded nasal traces), mmHg.
     """
 
     smooth_s: float = 0.15
@@ -82,7 +95,7 @@ class DetectionSettings:
     level_window_s: float = 30.0
     baseline_pct: float = 10.0
     plateau_pct: float = 80.0
-    high_frac: float = 0.5
+    high_frac: float = 0.35
     low_frac: float = 0.3
     high_floor_mmHg: float = 3.0
     low_floor_mmHg: float = 1.5
@@ -97,6 +110,8 @@ class DetectionSettings:
     min_duration_s: float = 0.5
     low_plateau_mmHg: float = 6.0
     clip_min_s: float = 0.3
+    heart_rate_interval_s: float = 1.35
+    heart_rate_max_rise_mmHg: float = 12.0
 
 
 DEFAULT_SETTINGS = DetectionSettings()
