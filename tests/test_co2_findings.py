@@ -270,3 +270,25 @@ def test_one_sample_dropouts_do_not_split_a_breath():
     y[np.searchsorted(cap.time_s, starts + 1.2)] = 0.0  # exactly 0, mid-plateau, every breath
     b = find_breaths(Capnogram(cap.time_s, y, FS_HZ))
     assert len(b) == starts.size
+
+
+# ----- criteria of the CO2 findings ------------------------------------------------------------
+def test_co2_finding_criteria_are_checked(tmp_path):
+    from sedreport.errors import CriteriaError
+
+    text = (Path(__file__).resolve().parents[1] / "templates/criteria/default.yaml").read_text()
+    for key, old, new, why in (
+        ("co2_signal.max_apnoea_s", "value: 120", "value: 12", "outside the plausible range"),
+        ("apnoea.rhythm_rate_min_per_min", "value: 4\n", "value: 40\n", "plausible range 1-20"),
+        ("low_amplitude.amplitude_fraction", "value: 0.5", "value: 1.5", "plausible range"),
+    ):
+        bad = tmp_path / "bad.yaml"
+        section, name = key.split(".")
+        head, _, tail = text.partition(f"\n  {name}:\n")
+        assert tail, key
+        bad.write_text(head + f"\n  {name}:\n" + tail.replace(old, new, 1))
+        with pytest.raises(CriteriaError, match=why):
+            load_criteria(bad)
+    strict = load_criteria(Path(__file__).resolve().parents[1] / "templates/criteria/strict.yaml")
+    assert strict.etco2_fall.fall_from_baseline_pct == 10.0  # Deitch 2010, both directions
+    assert np.isnan(CRIT.etco2_fall.fall_from_baseline_pct)
