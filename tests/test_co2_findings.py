@@ -292,3 +292,17 @@ def test_co2_finding_criteria_are_checked(tmp_path):
     strict = load_criteria(Path(__file__).resolve().parents[1] / "templates/criteria/strict.yaml")
     assert strict.etco2_fall.fall_from_baseline_pct == 10.0  # Deitch 2010, both directions
     assert np.isnan(CRIT.etco2_fall.fall_from_baseline_pct)
+
+
+def test_oxygen_flow_dilution_changes_no_breath_and_makes_no_finding():
+    """More oxygen through the cannula dilutes the sample: plateau 10-25 % lower and noisier
+    (common practice of nasal-cannula capnography); breaths and findings stay as they were."""
+    starts = np.arange(1.0, 700.0, 4.0)
+    et = np.where(starts < 400.0, 38.0, 38.0 * 0.76)  # 24 % lower from 400 s
+    cap = wave(starts, et, 703.0)
+    noisy = cap.co2_mmHg + np.where(
+        cap.time_s >= 400.0, np.random.default_rng(7).normal(0.0, 0.8, cap.time_s.size), 0.0
+    )
+    a = analyse_session(session_of(Capnogram(cap.time_s, np.clip(noisy, 0, None), FS_HZ)))
+    assert len(a.breaths) == starts.size and a.breaths.valid.all()
+    assert kinds(a) == []
