@@ -6,9 +6,10 @@ gives one):
 * **no variation**: CO2 samples that do not change at all for ``flat_exact_s`` (identical
   values, no sensor noise; e.g. exact zeros from a channel that is not delivering). A breathing
   pause measured by a running sensor still shows its noise.
-* **too long**: a pause without breaths longer than ``max_apnoea_s`` during which SpO2 does not
-  fall by ``spo2_fall_pct`` points (or no SpO2 was recorded): a patient does not go minutes
-  without breathing and without a fall in SpO2; the line is off the nose.
+* **too long**: a pause without breaths longer than ``max_apnoea_s`` during which (or up to
+  30 s after which, the delay of a finger probe) SpO2 does not fall by ``spo2_fall_pct`` points
+  (or no SpO2 was recorded): a patient does not go minutes without breathing and without a
+  fall in SpO2; the line is off the nose.
 
 Either finding (kind ``co2_signal_absent``) reads "no CO2 signal: disconnected or displaced
 line, or apnoea - check" and replaces the apnoea over that pause. It runs over the pause (from
@@ -30,6 +31,9 @@ from sedreport.session import Session
 CHECK_TEXT = "No CO2 signal: disconnected or displaced line, or apnoea - check."
 #: SpO2 before a pause is the median over this window, s (choice of this tool).
 SPO2_REFERENCE_S = 60.0
+#: A fall of finger SpO2 shows this long after its cause (circulation delay of a finger probe,
+#: a few tens of seconds; from memory): SpO2 up to this long after the pause counts, s.
+SPO2_LAG_S = 30.0
 
 
 def flat_runs(
@@ -116,7 +120,9 @@ def detect_co2_signal_absent(
         if flat_s >= c.flat_exact_s:
             used |= (fs < b) & (fe > a)
             out.append(_no_variation(a, b, flat_s))
-        elif b - a > c.max_apnoea_s and not spo2_fell(spo2_t, spo2_v, a, b, c.spo2_fall_pct):
+        elif b - a > c.max_apnoea_s and not spo2_fell(
+            spo2_t, spo2_v, a, b + SPO2_LAG_S, c.spo2_fall_pct
+        ):
             out.append(_too_long(a, b, criteria, bool(((spo2_t >= a) & (spo2_t <= b)).any())))
     for a, b in zip(fs[~used].tolist(), fe[~used].tolist(), strict=True):
         out.append(_no_variation(a, b, b - a))
