@@ -144,6 +144,7 @@ class Co2SignalCriteria:
     flat_exact_s: float
     max_apnoea_s: float
     spo2_fall_pct: float
+    small_wave_mmHg: float
 
 
 @dataclass(frozen=True)
@@ -233,6 +234,7 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "flat_exact_s": _Spec("s", 1, 600),
         "max_apnoea_s": _Spec("s", 30, 3600),
         "spo2_fall_pct": _Spec("%", 1, 20),
+        "small_wave_mmHg": _Spec("mmHg", 0.5, 10),
     },
     "signal_loss": {
         "co2_gap_s": _Spec("s", 0.05, 10),

@@ -306,3 +306,19 @@ def test_oxygen_flow_dilution_changes_no_breath_and_makes_no_finding():
     a = analyse_session(session_of(Capnogram(cap.time_s, np.clip(noisy, 0, None), FS_HZ)))
     assert len(a.breaths) == starts.size and a.breaths.valid.all()
     assert kinds(a) == []
+
+
+def test_waves_too_small_for_breaths_at_a_breathing_rhythm_are_not_an_apnoea():
+    """A displaced cannula: rhythmic waves of 3-4 mmHg at 15/min for a minute (recorded nasal
+    segments with a maximum under 6 mmHg look like this), not a 60-s apnoea."""
+    starts = np.arange(1.0, 600.0, 4.0)
+    rng = np.random.default_rng(4)
+    et = np.full(starts.size, 38.0)
+    tiny = (starts >= 300.0) & (starts < 360.0)
+    et[tiny] = rng.uniform(3.0, 4.0, int(tiny.sum()))
+    a = analyse_session(session_of(wave(starts, et, 603.0)))
+    assert "apnoea" not in kinds(a)
+    (low,) = of_kind(a, "low_amplitude")
+    assert low.subtype == "waves_only"
+    assert low.start_s == pytest.approx(starts[starts < 300.0][-1] + END_S, abs=0.2)
+    assert low.end_s == pytest.approx(360.0 + 1.0, abs=0.2)

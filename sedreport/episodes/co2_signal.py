@@ -11,7 +11,12 @@ gives one):
   (or no SpO2 was recorded): a patient does not go minutes without breathing and without a
   fall in SpO2; the line is off the nose.
 
-Either finding (kind ``co2_signal_absent``) reads "no CO2 signal: disconnected or displaced
+A third kind of pause is neither: rhythmic CO2 waves of at least ``small_wave_mmHg`` (a
+displaced cannula, deep mouth breathing) at a breathing rhythm (``apnoea.rhythm_rate_*``),
+too small to be measured as breaths. It is reported as a ``low_amplitude`` finding (subtype
+``waves_only``), not an apnoea; bumps at the heart rate are faster than that rhythm.
+
+Either absent-signal finding (kind ``co2_signal_absent``) reads "no CO2 signal: disconnected or displaced
 line, or apnoea - check" and replaces the apnoea over that pause. It runs over the pause (from
 the end of the last breath to the start of the next) or, for a flat run outside any pause, over
 the run itself.
@@ -20,6 +25,7 @@ the run itself.
 from __future__ import annotations
 
 import numpy as np
+from scipy.ndimage import uniform_filter1d
 
 from sedreport.capnography.model import BreathTable, Trends
 from sedreport.criteria import Criteria
@@ -76,6 +82,55 @@ def spo2_fell(spo2_t: np.ndarray, spo2_v: np.ndarray, a: float, b: float, fall_p
     return ref - float(spo2_v[inside].min()) >= fall_pct
 
 
+#: Moving-mean length for the small-wave search, s (light smoothing; choice of this tool).
+WAVE_SMOOTH_S = 0.3
+#: Hysteresis levels of the small-wave search, fractions of the 10-90 % range of the pause.
+WAVE_UP, WAVE_DOWN = 0.6, 0.3
+#: Share of the wave intervals that must lie at a breathing rhythm.
+WAVE_REGULAR_SHARE = 0.8
+
+
+def rhythmic_waves(
+    time_s: np.ndarray, co2_mmHg: np.ndarray, a: float, b: float, criteria: Criteria
+) -> tuple[float, float] | None:
+    """Height (mmHg) and rate (/min) of rhythmic small waves filling the pause [a, b], or None.
+
+    The pause's samples are smoothed (``WAVE_SMOOTH_S``); a wave starts where the trace rises
+    above 60 % of its 10-90 % range after having been below 30 %. The waves fill the pause when
+    the range is at least ``co2_signal.small_wave_mmHg``, there are ``apnoea.rhythm_breaths`` or
+    more, no stretch of the pause without a wave is as long as ``apnoea.min_duration_s``, and
+    80 % of the wave intervals lie at the breathing rhythm of the apnoea criteria.
+    """
+    sel = (time_s > a) & (time_s < b)
+    t, y = time_s[sel], co2_mmHg[sel]
+    if t.size < 8:
+        return None
+    fs = (t.size - 1) / max(t[-1] - t[0], 1e-9)
+    x = uniform_filter1d(y.astype(float), size=max(1, int(round(WAVE_SMOOTH_S * fs))))
+    lo, hi = np.percentile(x, [10.0, 90.0])
+    if hi - lo < criteria.co2_signal.small_wave_mmHg:
+        return None
+    code = np.where(
+        x > lo + WAVE_UP * (hi - lo), 1, np.where(x < lo + WAVE_DOWN * (hi - lo), -1, 0)
+    )
+    idx = np.maximum.accumulate(np.where(code != 0, np.arange(x.size), -1))
+    state = np.where(idx >= 0, code[np.maximum(idx, 0)] > 0, False)
+    rises = t[1:][np.diff(state.astype(np.int8)) == 1]
+    ap = criteria.apnoea
+    if rises.size < ap.rhythm_breaths:
+        return None
+    edges = np.diff(np.r_[a, rises, b])
+    if edges.max() >= ap.min_duration_s:
+        return None
+    step = np.diff(rises)
+    rhythmic = (step >= 60.0 / ap.rhythm_rate_max_per_min) & (
+        step <= 60.0 / ap.rhythm_rate_min_per_min
+    )
+    if rhythmic.mean() < WAVE_REGULAR_SHARE:
+        return None
+    return float(hi - lo), 60.0 / float(np.median(step))
+
+
 def _overlap_s(a: float, b: float, starts: np.ndarray, ends: np.ndarray) -> float:
     return float(np.clip(np.minimum(ends, b) - np.maximum(starts, a), 0.0, None).max(initial=0.0))
 
@@ -104,7 +159,8 @@ def detect_co2_signal_absent(
     Returns
     -------
     list of Finding
-        Subtype ``no_variation`` or ``too_long``.
+        Kind ``co2_signal_absent`` (subtype ``no_variation`` or ``too_long``) or
+        ``low_amplitude`` (subtype ``waves_only``).
     """
     if session.co2 is None or session.co2.time_s.size < 2:
         return []
@@ -120,6 +176,8 @@ def detect_co2_signal_absent(
         if flat_s >= c.flat_exact_s:
             used |= (fs < b) & (fe > a)
             out.append(_no_variation(a, b, flat_s))
+        elif (waves := rhythmic_waves(t, y, a, b, criteria)) is not None:
+            out.append(_waves_only(a, b, *waves))
         elif b - a > c.max_apnoea_s and not spo2_fell(
             spo2_t, spo2_v, a, b + SPO2_LAG_S, c.spo2_fall_pct
         ):
@@ -127,6 +185,16 @@ def detect_co2_signal_absent(
     for a, b in zip(fs[~used].tolist(), fe[~used].tolist(), strict=True):
         out.append(_no_variation(a, b, b - a))
     return sorted(out, key=lambda f: f.start_s)
+
+
+def _waves_only(a: float, b: float, height_mmHg: float, rate_per_min: float) -> Finding:
+    note = (
+        "Low-amplitude capnogram: mouth breathing, a displaced cannula or shallow breathing - "
+        f"check against the clinical notes. Rhythmic CO2 waves of about {height_mmHg:.0f} mmHg "
+        f"at {rate_per_min:.0f}/min, too small to measure as breaths, fill {b - a:.0f} s: not "
+        "read as apnoea."
+    )
+    return Finding("low_amplitude", "waves_only", a, b, (note,))
 
 
 def _no_variation(a: float, b: float, flat_s: float) -> Finding:

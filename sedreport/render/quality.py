@@ -195,6 +195,7 @@ CRITERION_WORDS: dict[str, str] = {
     "co2_signal.flat_exact_s": "CO2 not changing at all for",
     "co2_signal.max_apnoea_s": "pause read as no signal after",
     "co2_signal.spo2_fall_pct": "SpO2 fall that keeps a long pause an apnoea",
+    "co2_signal.small_wave_mmHg": "rhythmic waves in a pause from",
     "signal_loss.co2_gap_s": "CO2 sample step that is a gap",
     "signal_loss.spo2_gap_s": "SpO2 sample step that is a gap",
     "signal_loss.min_duration_s": "shortest gap reported as an episode",
