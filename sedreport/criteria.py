@@ -54,12 +54,16 @@ class _Spec:
 class ApnoeaCriteria:
     """No capnographic breath for at least ``min_duration_s``; ``prolonged_s`` is the top tier.
 
-    Breaths whose EtCO2 is at or below ``breath_min_etco2_mmHg`` do not end an apnoea.
+    Breaths whose EtCO2 is at or below ``breath_min_etco2_mmHg`` do not end an apnoea unless
+    they belong to a rhythmic run (``rhythm_*``: at least that many breaths at a breathing rate).
     """
 
     min_duration_s: float
     prolonged_s: float
     breath_min_etco2_mmHg: float
+    rhythm_breaths: float
+    rhythm_rate_min_per_min: float
+    rhythm_rate_max_per_min: float
 
 
 @dataclass(frozen=True)
@@ -130,6 +134,41 @@ class ObstructionCriteria:
 
 
 @dataclass(frozen=True)
+class Etco2FallCriteria:
+    """EtCO2 below the patient's baseline by ``fall_from_baseline_mmHg`` (or ``_pct``), sustained.
+
+    ``fall_from_baseline_pct`` is NaN when switched off.
+    """
+
+    fall_from_baseline_mmHg: float
+    fall_from_baseline_pct: float
+    min_duration_s: float
+    max_interruption_s: float
+
+
+@dataclass(frozen=True)
+class LowAmplitudeCriteria:
+    """A run of small breaths that began abruptly at an unchanged rate, SpO2 not falling."""
+
+    amplitude_fraction: float
+    onset_s: float
+    rate_change_pct: float
+    spo2_fall_pct: float
+    min_duration_s: float
+    max_interruption_s: float
+
+
+@dataclass(frozen=True)
+class Co2SignalCriteria:
+    """When a flat CO2 trace is reported as an absent signal rather than an apnoea."""
+
+    flat_exact_s: float
+    max_apnoea_s: float
+    spo2_fall_pct: float
+    small_wave_mmHg: float
+
+
+@dataclass(frozen=True)
 class SignalLossCriteria:
     """Sample steps that are gaps, and the shortest gap reported as an episode."""
 
@@ -154,6 +193,9 @@ _SECTIONS: dict[str, type] = {
     "oximetry": OximetryCriteria,
     "rebreathing": RebreathingCriteria,
     "obstruction": ObstructionCriteria,
+    "etco2_fall": Etco2FallCriteria,
+    "low_amplitude": LowAmplitudeCriteria,
+    "co2_signal": Co2SignalCriteria,
     "signal_loss": SignalLossCriteria,
     "linking": LinkingCriteria,
 }
@@ -164,6 +206,9 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "min_duration_s": _Spec("s", 5, 120),
         "prolonged_s": _Spec("s", 10, 600),
         "breath_min_etco2_mmHg": _Spec("mmHg", 0, 20),
+        "rhythm_breaths": _Spec("breaths", 2, 20),
+        "rhythm_rate_min_per_min": _Spec("1/min", 1, 20),
+        "rhythm_rate_max_per_min": _Spec("1/min", 20, 90),
     },
     "hypoventilation": {
         "etco2_high_mmHg": _Spec("mmHg", 30, 100),
@@ -209,6 +254,26 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "min_duration_s": _Spec("s", 0, 900),
         "max_interruption_s": _Spec("s", 0, 120),
     },
+    "etco2_fall": {
+        "fall_from_baseline_mmHg": _Spec("mmHg", 1, 50),
+        "fall_from_baseline_pct": _Spec("%", 1, 100, optional=True),
+        "min_duration_s": _Spec("s", 0, 900),
+        "max_interruption_s": _Spec("s", 0, 120),
+    },
+    "low_amplitude": {
+        "amplitude_fraction": _Spec("fraction", 0.05, 0.95),
+        "onset_s": _Spec("s", 1, 120),
+        "rate_change_pct": _Spec("%", 1, 100),
+        "spo2_fall_pct": _Spec("%", 1, 20),
+        "min_duration_s": _Spec("s", 0, 900),
+        "max_interruption_s": _Spec("s", 0, 120),
+    },
+    "co2_signal": {
+        "flat_exact_s": _Spec("s", 1, 600),
+        "max_apnoea_s": _Spec("s", 30, 3600),
+        "spo2_fall_pct": _Spec("%", 1, 20),
+        "small_wave_mmHg": _Spec("mmHg", 0.5, 10),
+    },
     "signal_loss": {
         "co2_gap_s": _Spec("s", 0.05, 10),
         "spo2_gap_s": _Spec("s", 1, 120),
@@ -229,6 +294,12 @@ _RELATIONS: tuple[tuple[str, str, str], ...] = (
     ("signal_loss.co2_gap_s", "signal_loss.min_duration_s", "a reported loss is at least a gap"),
     ("oximetry.spike_return_pct", "oximetry.spike_min_pct", "a return must be nearer than a step"),
     ("oximetry.spike_return_pct", "oximetry.drop_min_pct", "a return must be nearer than a fall"),
+    ("apnoea.min_duration_s", "co2_signal.max_apnoea_s", "an apnoea must fit below the limit"),
+    (
+        "apnoea.rhythm_rate_min_per_min",
+        "apnoea.rhythm_rate_max_per_min",
+        "the rhythm range runs slow to fast",
+    ),
 )
 _TOP_KEYS = {"format", "name", "description", *_SECTIONS}
 _ENTRY_KEYS = {"value", "unit", "source", "note"}
@@ -244,7 +315,8 @@ class Criteria:
         Identity of the file (``sha256`` of its bytes).
     items : tuple of Criterion
         Every threshold with unit, source and note, in file order.
-    apnoea, hypoventilation, desaturation, oximetry, rebreathing, obstruction, signal_loss, linking
+    apnoea, hypoventilation, desaturation, oximetry, rebreathing, obstruction, etco2_fall,
+    low_amplitude, co2_signal, signal_loss, linking
         Typed sections: ``criteria.apnoea.min_duration_s`` and so on.
     """
 
@@ -259,6 +331,9 @@ class Criteria:
     oximetry: OximetryCriteria
     rebreathing: RebreathingCriteria
     obstruction: ObstructionCriteria
+    etco2_fall: Etco2FallCriteria
+    low_amplitude: LowAmplitudeCriteria
+    co2_signal: Co2SignalCriteria
     signal_loss: SignalLossCriteria
     linking: LinkingCriteria
 

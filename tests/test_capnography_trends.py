@@ -138,9 +138,10 @@ def test_baseline_without_any_breath():
 
 
 def test_rate_ignores_doubtful_deflections_in_a_pause():
-    """5 mmHg cardiogenic ripples through a 60 s pause are invalid deflections: rate 0."""
+    """8 mmHg cardiogenic ripples through a 60 s pause are invalid deflections (at the heart
+    rate, 72/min: above adult breathing rates, common practice): rate 0."""
     spec = TraceSpec(
-        rr_jitter_frac=0.0, cardiogenic_mmHg=5.0, heart_rate_hz=1.2, pauses=[(100.0, 60.0)]
+        rr_jitter_frac=0.0, cardiogenic_mmHg=8.0, heart_rate_hz=1.2, pauses=[(100.0, 60.0)]
     )
     cap, _ = make_trace(spec)
     b = find_breaths(cap)

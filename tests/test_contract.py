@@ -47,7 +47,17 @@ EPISODE_KEYS = {
     "peak_etco2_mmHg", "min_spo2_pct", "min_rr_per_min", "preceding_doses",
     "interventions", "notes",
 }  # fmt: skip
-KINDS = {"apnoea", "hypoventilation", "desaturation", "rebreathing", "obstruction", "signal_loss"}
+KINDS = {
+    "apnoea",
+    "hypoventilation",
+    "desaturation",
+    "rebreathing",
+    "obstruction",
+    "signal_loss",
+    "low_amplitude",
+    "etco2_fall",
+    "co2_signal_absent",
+}
 BREATH_COLUMNS = [
     "start_s", "end_s", "etco2_mmHg", "fico2_mmHg", "rr_per_min", "phase3_slope_mmHg_s", "valid",
 ]  # fmt: skip

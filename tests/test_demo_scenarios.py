@@ -27,6 +27,9 @@ EPISODE_KINDS = {
     "rebreathing",
     "obstruction",
     "signal_loss",
+    "low_amplitude",
+    "etco2_fall",
+    "co2_signal_absent",
 }
 
 
@@ -113,8 +116,10 @@ def test_planted_episodes_per_scenario(runs):
         "radiology_opioid_hypoventilation": ["hypoventilation"],
         "copd_obstruction": ["obstruction"],
         "rebreathing_under_drapes": ["rebreathing"],
-        "gap_and_probe_artefact": ["signal_loss"],
+        "gap_and_probe_artefact": ["signal_loss", "low_amplitude"],
         "desaturation_bag_mask": ["apnoea", "desaturation"],
+        "bite_block_mouth_breathing": ["low_amplitude", "apnoea", "low_amplitude"],
+        "line_off_etco2_fall": ["co2_signal_absent", "etco2_fall"],
     }
     for name, kinds in expected.items():
         assert [e["kind"] for e in runs[name][2]["episodes"]] == kinds, name
@@ -135,6 +140,8 @@ def test_apnoea_dated_from_breaths_and_clear_cut(runs):
         across_gap = np.zeros_like(planted)
         for g in truth["gaps"]:
             across_gap |= (en[:-1] <= g["start_s"]) & (st[1:] >= g["end_s"])
+        for a, z in _windows(truth, "co2_signal_absent"):  # a disconnected line: not recorded
+            across_gap |= (en[:-1] <= a) & (st[1:] >= z)
         assert pauses[~planted & ~across_gap].max() < 12.0, spec.session_id
 
 

@@ -66,7 +66,9 @@ def planted_session():
         started=datetime(2026, 3, 14, 9, 0, tzinfo=UTC),
         folder=Path("."),
         patient=Patient(ref="P-1", sex="male", weight_kg=80.0, height_cm=170.0),
-        co2=Capnogram(co2_t, np.zeros(co2_t.size), 10.0),
+        # sensor noise only (the breaths are planted in the table): a trace of exact zeros
+        # would read as a CO2 channel that is not delivering
+        co2=Capnogram(co2_t, np.abs(np.random.default_rng(1).normal(0, 0.2, co2_t.size)), 10.0),
         spo2=OximetryTrend(t, spo2, np.full(t.size, np.nan), 1.0),
         doses=(bolus(0.0, "propofol", 40.0, 2), bolus(180.0, "propofol", 30.0, 3)),
         events=(

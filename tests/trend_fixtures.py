@@ -37,6 +37,9 @@ def planted_schedule(
         fico2_mmHg=np.zeros(n),
         obstructed=np.zeros(n, dtype=bool),
         assisted=np.zeros(n, dtype=bool),
+        shelf_s=np.zeros(n),
+        shelf_mmHg=np.zeros(n),
+        hump_dip=np.zeros(n),
     )
 
 

@@ -5,12 +5,14 @@ stated there) and measures each into a breath (:mod:`sedreport.capnography.metri
 
 Measured limits (synthetic traces with planted truth; ``benchmarks/bench_capnography.py``):
 breath recall and precision stay >= 0.99 with white noise up to SD 8 mmHg at 100 Hz
-(SD 6 mmHg on a 15 mmHg diluted plateau) and up to SD 6 mmHg at 20 Hz (SD 2 mmHg on a
+(SD 4 mmHg on a 15 mmHg diluted plateau) and up to SD 6 mmHg at 20 Hz (SD 2 mmHg on a
 15 mmHg plateau); the median EtCO2 error passes 1 mmHg first, from about SD 5 mmHg at
-100 Hz and SD 2-3 mmHg at 20 Hz. Cardiogenic ripples up to 4 mmHg on a flat pause make no
-breath; ripples of about 5-6 mmHg show as invalid ``low_plateau`` deflections; from about
-8 mmHg at 0.8-1.2 Hz they can pass as valid breaths. Recorded data are documented and
-reviewed; none of this is an alarm.
+100 Hz and SD 2-3 mmHg at 20 Hz. The high hysteresis level (35 % of the running amplitude)
+finds shallow breaths of 40 % of the usual height, at the cost of some noise robustness on
+diluted plateaus (SD 6 mmHg before). Cardiogenic ripples up to 5 mmHg on a flat pause make
+no breath; larger ones at 0.8-1.2 Hz show as deflections marked invalid ``heart_rate``
+(closer than 1.35 s to both neighbours). Recorded data are documented and reviewed; none of
+this is an alarm.
 """
 
 from __future__ import annotations

@@ -8,16 +8,21 @@ stated in :class:`DetectionSettings`):
 2. Each segment is smoothed lightly with a centred moving mean (0.15 s), which removes white
    noise and single-sample spikes but keeps the upstroke.
 3. The patient's own levels are tracked in 1 s blocks: the inspired baseline is the 10th
-   percentile of the block minima and the plateau the 80th percentile of the block maxima,
-   both over a centred 30 s window, so the thresholds follow baseline drift and
-   nasal-cannula dilution (plateaus of 10-20 mmHg).
+   percentile of the block minima over a centred 30 s window, the plateau the smaller of
+   the 80th percentiles of the block maxima over the 15 s before and the 15 s after, so the
+   thresholds follow baseline drift, nasal-cannula dilution (plateaus of 10-20 mmHg) and an
+   abrupt drop of the plateau (mouth breathing) from its first breath.
 4. Hysteresis: a breath begins when the smoothed CO2 rises above
-   ``baseline + max(0.5 * amplitude, 3 mmHg)`` and ends when it falls below
-   ``baseline + max(0.3 * amplitude, 1.5 mmHg)``. The absolute floors mean that noise or
-   cardiogenic ripples on a flat trace cannot make breaths.
+   ``baseline + max(0.35 * amplitude, 3 mmHg)`` and ends when it falls below
+   ``baseline + max(0.3 * amplitude, 1.5 mmHg)``. The high level sits low enough that the
+   shallow and partial breaths of clinical nasal capnography (40 % of the usual height) are
+   found; the low level is kept so that a dip between the humps of one expiration does not
+   split it. The absolute floors mean that noise or cardiogenic ripples on a flat trace
+   cannot make breaths.
 5. Cycles separated by less than 0.15 s below the low threshold are merged (a ripple on the
    plateau does not split a breath); cycles shorter than 0.1 s above it, or rising less than
-   4 mmHg from the inspired baseline on either side, are not breaths.
+   5 mmHg from the inspired baseline on either side, are not breaths (cardiogenic bumps of
+   1-3 mmHg with sensor noise on top stay under it; mouth breathing gives 8-15 mmHg).
 
 The cycles are measured into breaths by :mod:`sedreport.capnography.metrics`;
 :func:`sedreport.capnography.breaths.find_breaths` runs both.
@@ -74,6 +79,15 @@ class DetectionSettings:
         Breaths whose EtCO2 exceeds FiCO2 by less than this are marked ``low_plateau``, mmHg.
     clip_min_s : float
         A breath holding the trace maximum at least this long is marked ``clipped``, s.
+    heart_rate_interval_s : float
+        A breath starting less than this after the previous one and less than this before the
+        next (in one segment), and rises less than ``heart_rate_max_rise_mmHg``, is at the
+        heart rate, not a breathing rate, and is marked ``heart_rate`` (cardiogenic
+        oscillations); 1.35 s is 44/min, above adult breathing rates (common practice) and
+        below the 50-120/min of a heart, s.
+    heart_rate_max_rise_mmHg : float
+        Largest rise of such a deflection (cardiogenic oscillations of up to 12 mmHg are seen
+        on recorded nasal traces), mmHg.
     """
 
     smooth_s: float = 0.15
@@ -81,13 +95,13 @@ class DetectionSettings:
     level_window_s: float = 30.0
     baseline_pct: float = 10.0
     plateau_pct: float = 80.0
-    high_frac: float = 0.5
+    high_frac: float = 0.35
     low_frac: float = 0.3
     high_floor_mmHg: float = 3.0
     low_floor_mmHg: float = 1.5
     min_low_s: float = 0.15
     min_high_s: float = 0.1
-    min_amplitude_mmHg: float = 4.0
+    min_amplitude_mmHg: float = 5.0
     onset_frac: float = 0.1
     onset_min_frac: float = 0.03
     upper_frac: float = 0.9
@@ -96,6 +110,8 @@ class DetectionSettings:
     min_duration_s: float = 0.5
     low_plateau_mmHg: float = 6.0
     clip_min_s: float = 0.3
+    heart_rate_interval_s: float = 1.35
+    heart_rate_max_rise_mmHg: float = 12.0
 
 
 DEFAULT_SETTINGS = DetectionSettings()
@@ -151,6 +167,27 @@ def smooth(co2_mmHg: np.ndarray, fs_hz: float, settings: DetectionSettings) -> n
     return moving_mean(co2_mmHg, width)
 
 
+def _shift(x: np.ndarray, k: int) -> np.ndarray:
+    """``x`` moved by ``k`` places (positive: later values come earlier), edges repeated."""
+    if k == 0 or x.size == 0:
+        return x
+    if k > 0:
+        return np.r_[x[k:], np.full(min(k, x.size), x[-1])][: x.size]
+    return np.r_[np.full(min(-k, x.size), x[0]), x[:k]][: x.size]
+
+
+def _one_sided_min(x: np.ndarray, pct: float, size: int) -> np.ndarray:
+    """Smaller of the trailing and the leading running percentile over ``size`` blocks.
+
+    Right after an abrupt drop of the plateau (mouth breathing past a cannula) the leading
+    window already holds only small breaths, right before an abrupt rise the trailing one
+    does: the level follows the drop at once instead of half a window late.
+    """
+    centred = running_percentile(x, pct, size)
+    half = size // 2
+    return np.minimum(_shift(centred, -half), _shift(centred, half))
+
+
 def _levels(t: np.ndarray, x: np.ndarray, fs_hz: float, s: DetectionSettings):
     """Per-sample high and low hysteresis levels of one smoothed segment, mmHg."""
     n = x.size
@@ -160,7 +197,7 @@ def _levels(t: np.ndarray, x: np.ndarray, fs_hz: float, s: DetectionSettings):
     bmin = np.minimum.reduceat(x, starts)
     size = max(1, int(round(s.level_window_s / s.block_s)))
     size = min(size | 1, (starts.size | 1))
-    plateau = running_percentile(bmax, s.plateau_pct, size)
+    plateau = _one_sided_min(bmax, s.plateau_pct, size // 2 | 1)
     base = running_percentile(bmin, s.baseline_pct, size)
     centre = np.minimum(starts + blk // 2, n - 1)
     amp = np.clip(plateau - base, 0.0, None)

@@ -230,6 +230,15 @@ def _rates(start_s: np.ndarray, c: Cycles) -> np.ndarray:
     return rr
 
 
+def _heart_rate(start_s: np.ndarray, rise_mmHg: np.ndarray, c: Cycles, s: DetectionSettings):
+    """Small breaths closer than ``heart_rate_interval_s`` to both neighbours in their segment."""
+    n = start_s.size
+    close = np.zeros(n + 1, dtype=bool)  # close[k]: breath k-1 and k are at the heart rate
+    if n > 1:
+        close[1:n] = (np.diff(start_s) < s.heart_rate_interval_s) & (c.seg_lo[1:] == c.seg_lo[:-1])
+    return close[:n] & close[1:] & (rise_mmHg < s.heart_rate_max_rise_mmHg)
+
+
 def _reasons(flags: dict[str, np.ndarray], n: int) -> tuple[str, ...]:
     """Join the names of the raised flags per breath with ``;`` ('' when none)."""
     out = []
@@ -333,6 +342,7 @@ def measure_breaths(
         "short": (end_s - start_s) < s.min_duration_s,
         "low_plateau": rise_height < s.low_plateau_mmHg,
         "clipped": _clipped(y, c, fs, s),
+        "heart_rate": _heart_rate(start_s, rise_height, c, s),
     }
     reason = _reasons(flags, c.rise.size)
     valid = ~np.logical_or.reduce(list(flags.values()))

@@ -76,13 +76,13 @@ def rate_trend(
 
 
 #: Invalid breaths with these reasons are doubtful deflections, not breaths, for the rate.
-DOUBTFUL_REASONS: frozenset[str] = frozenset({"short", "low_plateau"})
+DOUBTFUL_REASONS: frozenset[str] = frozenset({"short", "low_plateau", "heart_rate"})
 
 
 def counted_breaths(breaths: BreathTable) -> np.ndarray:
     """Breaths that count for the rate: valid ones, and invalid ones whose only faults are a
-    gap cut or a clipped plateau (real breaths whose values are unusable); not ``short`` or
-    ``low_plateau`` deflections, which can be ripples in a pause."""
+    gap cut or a clipped plateau (real breaths whose values are unusable); not ``short``,
+    ``low_plateau`` or ``heart_rate`` deflections, which can be ripples in a pause."""
     return np.array(
         [not (set(r.split(";")) & DOUBTFUL_REASONS) for r in breaths.reason], dtype=bool
     ).reshape(-1)

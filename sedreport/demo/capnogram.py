@@ -46,6 +46,11 @@ class BreathSchedule:
         Breath drawn with the planted obstructive shape.
     assisted : ndarray of bool
         Breath given by bag-mask ventilation.
+    shelf_s, shelf_mmHg : ndarray
+        Stepped expiration: a low shelf of this height and length before the main upstroke
+        (0 = none); the shelf starts the breath and shortens its plateau.
+    hump_dip : ndarray
+        Two-hump expiration: fractional dip of the plateau at its middle (0 = none).
     """
 
     start_s: np.ndarray
@@ -58,16 +63,19 @@ class BreathSchedule:
     fico2_mmHg: np.ndarray
     obstructed: np.ndarray
     assisted: np.ndarray
+    shelf_s: np.ndarray
+    shelf_mmHg: np.ndarray
+    hump_dip: np.ndarray
 
     @property
     def end_s(self) -> np.ndarray:
         """Time the downstroke is back at the inspired baseline."""
-        return self.start_s + self.upstroke_s + self.plateau_s + self.downstroke_s
+        return self.plateau_end_s + self.downstroke_s
 
     @property
     def plateau_end_s(self) -> np.ndarray:
         """End of phase III (start of the downstroke)."""
-        return self.start_s + self.upstroke_s + self.plateau_s
+        return self.start_s + self.shelf_s + self.upstroke_s + self.plateau_s
 
     @property
     def slope_mmHg_s(self) -> np.ndarray:
@@ -93,7 +101,14 @@ _FIELDS = (
     "fico2_mmHg",
     "obstructed",
     "assisted",
+    "shelf_s",
+    "shelf_mmHg",
+    "hump_dip",
 )
+#: Rise time of a shelf, s (invented).
+SHELF_RISE_S = 0.08
+#: Width (SD, as a fraction of the plateau) of the mid-plateau dip of a two-hump breath.
+HUMP_WIDTH = 0.12
 
 
 def _raised_cosine(x: np.ndarray) -> np.ndarray:
@@ -129,7 +144,9 @@ def render_capnogram(schedule: BreathSchedule, time_s: np.ndarray) -> np.ndarray
     idx = np.searchsorted(schedule.start_s, time_s, side="right") - 1
     before = idx < 0
     i = np.clip(idx, 0, n - 1)
-    u = time_s - schedule.start_s[i]
+    shelf_s, shelf = schedule.shelf_s[i], schedule.shelf_mmHg[i]
+    u_all = time_s - schedule.start_s[i]
+    u = u_all - shelf_s
     tu, tp, td = schedule.upstroke_s[i], schedule.plateau_s[i], schedule.downstroke_s[i]
     et = schedule.etco2_mmHg[i]
     p0 = et - schedule.plateau_rise_mmHg[i]
@@ -139,12 +156,15 @@ def render_capnogram(schedule: BreathSchedule, time_s: np.ndarray) -> np.ndarray
     # phase III without a kink.
     w = np.clip((schedule.curvature[i] - 1.0) / 4.0, 0.0, 0.5)
     x = np.clip(u / tu, 0.0, 1.0)
-    up = fi_before + (p0 - fi_before) * ((1.0 - w) * _raised_cosine(x) + w * x)
-    plateau = p0 + (et - p0) * _plateau_shape((u - tu) / tp, schedule.curvature[i])
+    foot = fi_before + shelf * _raised_cosine(u_all / SHELF_RISE_S)
+    up = foot + (p0 - foot) * ((1.0 - w) * _raised_cosine(x) + w * x)
+    xp = (u - tu) / tp
+    plateau = p0 + (et - p0) * _plateau_shape(xp, schedule.curvature[i])
+    plateau = plateau * (1.0 - schedule.hump_dip[i] * np.exp(-0.5 * ((xp - 0.5) / HUMP_WIDTH) ** 2))
     down = et + (fi_after - et) * _raised_cosine((u - tu - tp) / td)
     value = np.select(
-        [u < tu, u < tu + tp, u < tu + tp + td],
-        [up, plateau, down],
+        [u < 0.0, u < tu, u < tu + tp, u < tu + tp + td],
+        [foot, up, plateau, down],
         default=fi_after,
     )
     return np.where(before, schedule.fico2_mmHg[0], value)

@@ -37,6 +37,10 @@ class Physiology:
     hr_bpm : float
         Resting pulse.
     oxygen : OxygenParams
+    stepped_fraction, hump_fraction : float
+        Share of breaths drawn with a low shelf before the main rise (a stepped expiration)
+        and with a dip in mid-plateau (a two-hump expiration), as in clinical nasal
+        capnograms; each is still one breath.
     """
 
     rr_per_min: float = 15.0
@@ -49,6 +53,8 @@ class Physiology:
     etco2_jitter_mmHg: float = 0.5
     hr_bpm: float = 74.0
     oxygen: OxygenParams = field(default_factory=OxygenParams)
+    stepped_fraction: float = 0.0
+    hump_fraction: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -56,12 +62,15 @@ class Apnoea:
     """No breath starts from ``onset_s`` for ``pause_s``; breathing resumes at the end.
 
     ``bag_mask`` marks the breaths after the pause as bag-mask ventilation for ``assist_s``.
+    ``cardiogenic_mmHg`` adds oscillations of that height at the heart rate during the pause
+    (cardiogenic oscillations: gas moved by the heartbeat; not breaths).
     """
 
     onset_s: float
     pause_s: float
     bag_mask: bool = False
     assist_s: float = 60.0
+    cardiogenic_mmHg: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -99,11 +108,40 @@ class Obstruction:
 
 @dataclass(frozen=True)
 class MouthBreathing:
-    """Mouth breathing past the nasal cannula: plateau diluted to ``dilution``, noisier."""
+    """Mouth breathing past the nasal cannula: plateau diluted to ``dilution``, noisier.
+
+    The plateau drops within ``ramp_s`` and comes back as fast, at an unchanged rate (a
+    low-amplitude capnogram, not hypoventilation).
+    """
 
     start_s: float
     duration_s: float
     dilution: float = 0.6
+    ramp_s: float = 2.0
+
+
+@dataclass(frozen=True)
+class Disconnection:
+    """The sampling line is disconnected: the CO2 channel reads exactly 0 (no noise).
+
+    The zeros run from the end of the last breath before ``start_s`` to the start of the first
+    breath after ``start_s + duration_s``; the patient keeps breathing.
+    """
+
+    start_s: float
+    duration_s: float
+
+
+@dataclass(frozen=True)
+class Etco2Fall:
+    """Alveolar CO2 falls by ``fall_mmHg`` (e.g. hyperventilation) over ``ramp_s``, holds,
+    recovers over ``ramp_s / 2``; the rate rises by ``rr_rise_per_min``."""
+
+    start_s: float
+    duration_s: float
+    fall_mmHg: float
+    ramp_s: float = 30.0
+    rr_rise_per_min: float = 4.0
 
 
 @dataclass(frozen=True)

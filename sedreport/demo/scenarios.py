@@ -21,6 +21,7 @@ from sedreport.demo.case import (
     Spo2Artefact,
 )
 from sedreport.demo.oximetry import OxygenParams
+from sedreport.demo.signal_scenarios import bite_block_gastroscopy, line_off_hyperventilation
 
 #: Depth score note: the MOAA/S scale (Chernik et al., J Clin Psychopharmacol 1990).
 _MOAAS = "MOAA/S"
@@ -254,7 +255,7 @@ def _gap_and_probe_artefact() -> CaseSpec:
         scenario="gap_and_probe_artefact",
         description="Propofol colonoscopy with a disconnected CO2 sampling line, an SpO2 probe "
         "motion artefact, low start-up readings, the oximeter probe off twice (0 exported) and "
-        "a mouth-breathing stretch; no respiratory episode.",
+        "a deep mouth-breathing stretch (a low-amplitude capnogram); no respiratory episode.",
         started="2026-09-15T11:00:00+02:00",
         duration_s=1500.0,
         area="endoscopy",
@@ -288,7 +289,7 @@ def _gap_and_probe_artefact() -> CaseSpec:
             Spo2Artefact(start_s=1050.0, duration_s=30.0),
             ProbeOff(start_s=942.0, duration_s=8.0, startup_s=8.0, startup_low_pct=9.0),
             ProbeOff(start_s=1142.0, duration_s=4.0, startup_s=4.0, startup_low_pct=7.0),
-            MouthBreathing(start_s=1200.0, duration_s=120.0),
+            MouthBreathing(start_s=1200.0, duration_s=120.0, dilution=0.3),
         ),
         flow_l_min=2.0,
         co2_rate_hz=40.0,
@@ -362,5 +363,7 @@ SCENARIOS: dict[str, CaseSpec] = {
         _rebreathing_under_drapes(),
         _gap_and_probe_artefact(),
         _desaturation_bag_mask(),
+        bite_block_gastroscopy(),
+        line_off_hyperventilation(),
     )
 }

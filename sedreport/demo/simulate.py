@@ -22,6 +22,8 @@ from sedreport.demo.capnogram import (
 from sedreport.demo.case import (
     Apnoea,
     CaseSpec,
+    Disconnection,
+    Etco2Fall,
     Gap,
     Hypoventilation,
     MouthBreathing,
@@ -60,6 +62,7 @@ class Tracks:
     obstructed: np.ndarray
     flow_l_min: np.ndarray
     plateau_sd_mmHg: np.ndarray
+    etco2_fall_mmHg: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -112,8 +115,14 @@ def build_tracks(spec: CaseSpec) -> Tracks:
     # Nasal-cannula O2 dilutes the sampled gas: lower, noisier plateau (invented linear model).
     dilution = np.where(cannula, 1.0 - 0.035 * flow, 1.0)
     sd = 0.2 + (0.12 * flow if cannula else 0.0)
+    fall = np.zeros_like(grid)
+    for f in spec.planted_of(Etco2Fall):
+        w = _trapezoid(grid, f.start_s, f.start_s + f.duration_s, f.ramp_s)
+        fall = fall + f.fall_mmHg * w
+        rr = rr + f.rr_rise_per_min * w
+    etco2 = etco2 - fall
     for m in spec.planted_of(MouthBreathing):
-        w = _trapezoid(grid, m.start_s, m.start_s + m.duration_s, 6.0)
+        w = _trapezoid(grid, m.start_s, m.start_s + m.duration_s, m.ramp_s)
         dilution = dilution * (1.0 - w * (1.0 - m.dilution))
         sd = sd + 0.6 * w
     fico2 = np.zeros_like(grid)
@@ -127,7 +136,7 @@ def build_tracks(spec: CaseSpec) -> Tracks:
     for o in spec.planted_of(Obstruction):
         obstructed |= (grid >= o.start_s) & (grid < o.start_s + o.duration_s)
     return Tracks(
-        grid, rr, etco2, dilution, fico2, obstructed, flow, np.broadcast_to(sd, grid.shape)
+        grid, rr, etco2, dilution, fico2, obstructed, flow, np.broadcast_to(sd, grid.shape), fall
     )
 
 
@@ -165,6 +174,7 @@ def schedule_breaths(
         tracks.flow_l_min.tolist(),
         tracks.fico2_mmHg.tolist(),
     )
+    fall_t = tracks.etco2_fall_mmHg.tolist()
     last_k = tracks.grid_s.size - 1
     z = rng.standard_normal((int(spec.duration_s / 1.5) + 16, 7)).tolist()
     assist_until = -1.0
@@ -193,6 +203,8 @@ def schedule_breaths(
         dil = dil_t[k] * (1.0 + 0.01 * flow_t[k] * zn[5])
         et = et_alv * min(dil, 1.0)
         slope = phys.slope_mmHg_s * (o.slope_factor if o else 1.0) * dil * np.exp(0.1 * zn[6])
+        if fall_t[k] > 0:  # a lower alveolar CO2 gives a proportionally lower phase III slope
+            slope *= et_t[k] / (et_t[k] + fall_t[k])
         # The plateau flattens after ~3 s of a long expiratory pause, and never starts below
         # 40 % (normal) / 35 % (obstructive) of EtCO2.
         rise = min(slope * (min(tp, 3.0) + 0.1 * max(tp - 3.0, 0.0)), (0.65 if o else 0.6) * et)
@@ -224,8 +236,38 @@ def schedule_breaths(
         fico2_mmHg=arr["fi"],
         obstructed=arr["ob"].astype(bool),
         assisted=arr["as"].astype(bool),
+        shelf_s=np.zeros(arr["t"].size),
+        shelf_mmHg=np.zeros(arr["t"].size),
+        hump_dip=np.zeros(arr["t"].size),
     )
-    return schedule, tuple(resume), np.asarray(alv)
+    return _shape_variety(schedule, phys, rng), tuple(resume), np.asarray(alv)
+
+
+def _shape_variety(schedule: BreathSchedule, phys, rng: np.random.Generator) -> BreathSchedule:
+    """Stepped (low shelf before the rise) and two-hump breaths, as on clinical nasal traces.
+
+    Shelves of 4-8 mmHg for 0.3-0.8 s (taken from the plateau, so the breath keeps its
+    length) and mid-plateau dips of 30-50 %: invented values in the range seen by eye on
+    recorded nasal capnograms. Draws nothing when both fractions are 0.
+    """
+    n = len(schedule)
+    if n == 0 or (phys.stepped_fraction <= 0 and phys.hump_fraction <= 0):
+        return schedule
+    u = rng.random((n, 4))
+    stepped = (u[:, 0] < phys.stepped_fraction) & ~schedule.assisted
+    shelf_s = np.where(stepped, np.minimum(0.3 + 0.5 * u[:, 1], schedule.plateau_s - 0.6), 0.0)
+    shelf_s = np.clip(shelf_s, 0.0, None)
+    shelf_mmHg = np.where(shelf_s > 0, 5.0 + 3.0 * u[:, 2], 0.0)
+    hump = (u[:, 3] < phys.hump_fraction) & ~schedule.assisted
+    hump_dip = np.where(hump, 0.3 + 0.2 * u[:, 2], 0.0)
+    fields = {k: getattr(schedule, k) for k in BreathSchedule.__dataclass_fields__}
+    fields.update(
+        plateau_s=schedule.plateau_s - shelf_s,
+        shelf_s=shelf_s,
+        shelf_mmHg=np.minimum(shelf_mmHg, 0.5 * schedule.etco2_mmHg),
+        hump_dip=hump_dip,
+    )
+    return BreathSchedule(**fields)
 
 
 def _last_end(cols: dict[str, list], before_s: float) -> float:
@@ -243,12 +285,52 @@ def _co2_samples(spec: CaseSpec, schedule: BreathSchedule, tracks: Tracks, rng) 
     clean = render_capnogram(schedule, time_s)
     in_breath = plateau_mask(schedule, time_s)
     sd = tracks.plateau_sd_mmHg[np.clip(time_s.astype(int), 0, tracks.grid_s.size - 1)]
+    clean = clean + _cardiogenic_mmHg(spec, schedule, time_s, rng)
     co2 = add_sensor_noise(clean, in_breath, 0.12, sd, rng)
+    for a, b in disconnected_spans(spec, schedule):
+        co2 = np.where((time_s > a) & (time_s < b), 0.0, co2)
     keep = np.ones(n, dtype=bool)
     for g in spec.planted_of(Gap):
         if g.source == "co2":
             keep &= ~((time_s >= g.start_s) & (time_s < g.start_s + g.duration_s))
     return time_s[keep], co2[keep]
+
+
+def _cardiogenic_mmHg(
+    spec: CaseSpec, schedule: BreathSchedule, time_s: np.ndarray, rng: np.random.Generator
+) -> np.ndarray:
+    """Oscillations at the heart rate inside planted apnoeic pauses (0 elsewhere), mmHg.
+
+    Positive bumps of the planted height, from 1 s after the last breath to 0.5 s before the
+    next. Draws from ``rng`` only when a planted apnoea has them.
+    """
+    out = np.zeros(time_s.shape)
+    apnoeas = [a for a in spec.planted_of(Apnoea) if a.cardiogenic_mmHg > 0]
+    if not apnoeas:
+        return out
+    hz = spec.physiology.hr_bpm / 60.0
+    for a in apnoeas:
+        nxt = np.searchsorted(schedule.start_s, a.onset_s + a.pause_s - 1e-6)
+        if not 0 < nxt < len(schedule):
+            continue
+        lo, hi = schedule.end_s[nxt - 1] + 1.0, schedule.start_s[nxt] - 0.5
+        inside = (time_s > lo) & (time_s < hi)
+        phase = float(rng.uniform(0.0, 2.0 * np.pi))
+        bump = 0.5 * (1.0 - np.cos(2.0 * np.pi * hz * (time_s - lo) + phase))
+        out = np.where(inside, a.cardiogenic_mmHg * bump, out)
+    return out
+
+
+def disconnected_spans(spec: CaseSpec, schedule: BreathSchedule) -> list[tuple[float, float]]:
+    """Each planted disconnection from the end of the last breath before it to the start of
+    the first breath after it, s."""
+    out = []
+    for d in spec.planted_of(Disconnection):
+        before = schedule.end_s[schedule.end_s <= d.start_s]
+        after = schedule.start_s[schedule.start_s >= d.start_s + d.duration_s]
+        if before.size and after.size:
+            out.append((float(before[-1]), float(after[0])))
+    return out
 
 
 def _apnoeic_seconds(schedule: BreathSchedule, grid_s: np.ndarray) -> np.ndarray:

@@ -8,32 +8,46 @@ FiCO2 > 5 mmHg), so that scorers compare like with like. A ``signal_loss`` episo
 (``co2`` / ``spo2``) as its subtype and repeats the entry of ``gaps``; a probe-off stretch of the
 oximeter (readings of 0) whose step between readings exceeds the default SpO2 gap rule (10 s)
 is an ``spo2`` signal loss too. ``artefacts`` lists motion, probe-off and start-up stretches.
+
+The CO2 findings: ``low_amplitude`` from the first to the last breath of a planted
+mouth-breathing stretch whose planted amplitude is below half the pre-dose amplitude;
+``etco2_fall`` from the first to the last breath of a planted fall whose planted EtCO2 is at
+least 10 mmHg under the pre-dose baseline; ``co2_signal_absent`` over a planted disconnection,
+from the end of the last breath before it to the start of the first after it (the breaths in
+between are not recorded).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from sedreport.criteria import default_criteria
 from sedreport.demo.case import (
     CaseSpec,
+    Etco2Fall,
     Gap,
     Hypoventilation,
+    MouthBreathing,
     Obstruction,
     ProbeOff,
     Rebreathing,
     Spo2Artefact,
 )
 from sedreport.demo.monitor import probe_windows
-from sedreport.demo.simulate import Signals
+from sedreport.demo.simulate import Signals, disconnected_spans
 
 TRUTH_FORMAT = "sedreport-truth/1"
-#: Default-criteria values used to date the edges of ramped plants (see module doc).
-HYPERCAPNIA_MMHG = 50.0
-HYPERCAPNIA_RISE_MMHG = 10.0
-BRADYPNOEA_PER_MIN = 8.0
-REBREATHING_FICO2_MMHG = 5.0
-DESATURATION_PCT = 90.0
-SPO2_GAP_S = 10.0
+#: Truth is labelled by the shipped default criteria, read from the file (one definition):
+#: these values date the edges of ramped plants (see module doc).
+_DEFAULT = default_criteria()
+HYPERCAPNIA_MMHG = _DEFAULT.hypoventilation.etco2_high_mmHg
+HYPERCAPNIA_RISE_MMHG = _DEFAULT.hypoventilation.rise_from_baseline_mmHg
+BRADYPNOEA_PER_MIN = _DEFAULT.hypoventilation.bradypnoea_rr_per_min
+REBREATHING_FICO2_MMHG = _DEFAULT.rebreathing.fico2_above_mmHg
+DESATURATION_PCT = _DEFAULT.desaturation.spo2_below_pct
+SPO2_GAP_S = _DEFAULT.signal_loss.spo2_gap_s
+LOW_AMPLITUDE_FRACTION = _DEFAULT.low_amplitude.amplitude_fraction
+ETCO2_FALL_MMHG = _DEFAULT.etco2_fall.fall_from_baseline_mmHg
 
 
 def _r(x: float, nd: int = 3) -> float:
@@ -59,6 +73,8 @@ def recorded_breaths(spec: CaseSpec, sig: Signals, gaps: list[dict]) -> np.ndarr
     for g in gaps:
         if g["source"] == "co2":
             keep &= (s.end_s < g["start_s"]) | (s.start_s > g["end_s"])
+    for a, b in disconnected_spans(spec, s):
+        keep &= (s.end_s <= a) | (s.start_s >= b)
     return keep
 
 
@@ -120,6 +136,37 @@ def _obstructions(spec: CaseSpec, sig: Signals) -> list[dict]:
         idx = np.flatnonzero(window & s.obstructed)
         if idx.size:
             out.append(_episode("obstruction", None, s.start_s[idx[0]], s.end_s[idx[-1]]))
+    return out
+
+
+def _planted_runs(spec: CaseSpec, sig: Signals, kind: str, plant: type, test) -> list[dict]:
+    """First to last breath inside each planted window whose planted values pass ``test``."""
+    s = sig.schedule
+    out = []
+    for m in spec.planted_of(plant):
+        window = (s.start_s >= m.start_s) & (s.start_s <= m.start_s + m.duration_s + 30.0)
+        idx = np.flatnonzero(window & test(s))
+        if idx.size:
+            out.append(_episode(kind, None, s.start_s[idx[0]], s.end_s[idx[-1]]))
+    return out
+
+
+def _co2_findings(spec: CaseSpec, sig: Signals) -> list[dict]:
+    """Low-amplitude stretches, EtCO2 falls and disconnections (see the module doc)."""
+    base = baseline_etco2_mmHg(spec, sig)
+    out = _planted_runs(
+        spec,
+        sig,
+        "low_amplitude",
+        MouthBreathing,
+        lambda s: (s.etco2_mmHg - s.fico2_mmHg) < LOW_AMPLITUDE_FRACTION * base,
+    )
+    out += _planted_runs(
+        spec, sig, "etco2_fall", Etco2Fall, lambda s: s.etco2_mmHg <= base - ETCO2_FALL_MMHG
+    )
+    out += [
+        _episode("co2_signal_absent", None, a, b) for a, b in disconnected_spans(spec, sig.schedule)
+    ]
     return out
 
 
@@ -195,6 +242,7 @@ def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
         + _hypoventilations(spec, sig)
         + _rebreathings(spec, sig)
         + _obstructions(spec, sig)
+        + _co2_findings(spec, sig)
         + _desaturations(sig)
         + [_episode("signal_loss", g["source"], g["start_s"], g["end_s"]) for g in gaps]
     )

@@ -6,9 +6,12 @@ from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import Criteria
 from sedreport.episodes._intervals import Finding
 from sedreport.episodes.apnoea import detect_apnoea
+from sedreport.episodes.co2_signal import detect_co2_signal_absent
 from sedreport.episodes.desaturation import detect_desaturation
+from sedreport.episodes.etco2_fall import detect_etco2_fall
 from sedreport.episodes.hypoventilation import detect_hypoventilation
 from sedreport.episodes.linking import link_episode
+from sedreport.episodes.low_amplitude import detect_low_amplitude, outside_stretches
 from sedreport.episodes.model import EPISODE_KINDS, Episode
 from sedreport.episodes.signal_loss import detect_signal_loss, stream_gaps
 from sedreport.episodes.waveform import detect_obstruction, detect_rebreathing
@@ -35,12 +38,19 @@ def find_findings(
         if session.co2 is not None and session.co2.time_s.size
         else None
     )
+    absent = detect_co2_signal_absent(session, breaths, trends, gs, ge, criteria)
+    low = detect_low_amplitude(breaths, baseline, trends, gs, ge, criteria)
+    absent_s = [(f.start_s, f.end_s) for f in absent]
+    low_s = [(f.start_s, f.end_s) for f in low]
     found = [
-        *detect_apnoea(breaths, gs, ge, criteria, co2_end_s=co2_end),
-        *detect_hypoventilation(breaths, baseline, gs, ge, criteria),
+        *detect_apnoea(breaths, gs, ge, criteria, co2_end_s=co2_end, absent=absent_s),
+        *detect_hypoventilation(breaths, baseline, gs, ge, criteria, low_amplitude=low_s),
+        *absent,
+        *low,
+        *detect_etco2_fall(breaths, baseline, gs, ge, criteria, low_amplitude=low_s),
         *detect_desaturation(trends, criteria),
         *detect_rebreathing(breaths, gs, ge, criteria),
-        *detect_obstruction(breaths, baseline, gs, ge, criteria),
+        *detect_obstruction(outside_stretches(breaths, low_s), baseline, gs, ge, criteria),
         *detect_signal_loss(session, criteria),
     ]
     return sorted(found, key=lambda f: (f.start_s, EPISODE_KINDS.index(f.kind), f.end_s))

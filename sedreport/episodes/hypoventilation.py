@@ -9,7 +9,9 @@ Two patterns (Krauss & Hess, Ann Emerg Med 2007):
   breaths is below ``bradypnoea_rr_per_min`` (Conway et al., J Clin Monit Comput 2019), else
   ``hypercapnic`` (raised CO2 at a normal rate). A slow rate alone does not start an episode.
 * hypopnoeic: waveform amplitude (EtCO2 - FiCO2) below ``hypopnoea_amplitude_fraction`` of the
-  baseline amplitude while EtCO2 is not raised.
+  baseline amplitude while EtCO2 is not raised, and more than a small waveform: a run that
+  overlaps a low-amplitude stretch (an abrupt fall at an unchanged rate with SpO2 not falling,
+  :mod:`sedreport.episodes.low_amplitude`) is reported there, not here.
 
 An episode runs from the start of the first qualifying breath to the end of the last and must
 span at least ``min_duration_s``.
@@ -66,6 +68,7 @@ def detect_hypoventilation(
     gap_starts: np.ndarray,
     gap_ends: np.ndarray,
     criteria: Criteria,
+    low_amplitude: list[tuple[float, float]] | None = None,
 ) -> list[Finding]:
     """Sustained hypoventilation runs (kind ``hypoventilation``).
 
@@ -78,6 +81,8 @@ def detect_hypoventilation(
     gap_starts, gap_ends : ndarray
         Merged CO2 gaps (s); a run never crosses one.
     criteria : Criteria
+    low_amplitude : list of (float, float), optional
+        Low-amplitude stretches (s); a hypopnoeic run overlapping one is not reported.
     """
     if len(breaths) == 0:
         return []
@@ -98,6 +103,10 @@ def detect_hypoventilation(
         for first, last in runs:
             start, end = float(breaths.start_s[first]), float(breaths.end_s[last])
             if end - start < c.min_duration_s:
+                continue
+            if pattern == "hypopnoeic" and any(
+                start < b and end > a for a, b in low_amplitude or ()
+            ):
                 continue
             out.append(_finding(breaths, mask, first, last, pattern, baseline, criteria))
     return out

@@ -12,6 +12,18 @@ EPISODE_KINDS: tuple[str, ...] = (
     "rebreathing",
     "obstruction",
     "signal_loss",
+    "low_amplitude",
+    "etco2_fall",
+    "co2_signal_absent",
+)
+
+#: Findings about the recording or a CO2 trend rather than an adverse respiratory event: they
+#: are never graded (severity ``none``) whatever intervention lies near them.
+UNGRADED_KINDS: tuple[str, ...] = (
+    "signal_loss",
+    "low_amplitude",
+    "etco2_fall",
+    "co2_signal_absent",
 )
 
 #: Severity tiers after the World SIVA adverse sedation event tool (Mason et al.,

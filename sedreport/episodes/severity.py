@@ -12,7 +12,7 @@ descriptor tier; raising the tier by the descriptor is a choice of this tool, st
 from __future__ import annotations
 
 from sedreport.criteria import Criteria
-from sedreport.episodes.model import SEVERITY_TIERS, LinkedIntervention
+from sedreport.episodes.model import SEVERITY_TIERS, UNGRADED_KINDS, LinkedIntervention
 
 _SOURCE = "Mason et al., Br J Anaesth 2012"
 
@@ -76,6 +76,8 @@ def descriptor_tier(
         return "minor", "airway obstruction pattern"
     if kind == "signal_loss":
         return "none", "a data-quality episode, not a patient event"
+    if kind in UNGRADED_KINDS:
+        return "none", "a CO2 finding to check, not graded as an adverse event"
     return "none", f"{kind} without intervention is below the minor tier"
 
 
@@ -88,11 +90,12 @@ def grade_episode(
 ) -> tuple[str, str]:
     """Severity tier of an episode and the sentence explaining it.
 
-    Signal-loss episodes are always ``none``: interventions near a data gap are listed but do
-    not grade it.
+    Signal-loss episodes and the other findings of :data:`UNGRADED_KINDS` (low-amplitude
+    capnogram, EtCO2 fall, absent CO2 signal) are always ``none``: interventions near them are
+    listed but do not grade them.
     """
     desc_tier, why = descriptor_tier(kind, duration_s, min_spo2_pct, criteria)
-    if kind == "signal_loss":
+    if kind in UNGRADED_KINDS:
         return "none", f"Severity none: {why}."
     top = max(interventions, key=lambda i: tier_rank(i.tier), default=None)
     int_tier = top.tier if top is not None else "none"

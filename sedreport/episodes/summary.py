@@ -51,6 +51,9 @@ class Summary:
     n_breaths, n_valid_breaths : int
     attention : tuple of str
         Plain sentences for the reviewer's attention.
+    co2_low_amplitude_pct, co2_signal_absent_pct : float or None
+        Share of the window inside low-amplitude stretches / absent-CO2-signal findings,
+        percent: CO2 recorded there says little about ventilation (None without CO2).
     """
 
     sedation_start_s: float
@@ -70,6 +73,8 @@ class Summary:
     n_breaths: int
     n_valid_breaths: int
     attention: tuple[str, ...]
+    co2_low_amplitude_pct: float | None = None
+    co2_signal_absent_pct: float | None = None
 
     def to_dict(self) -> dict:
         """The ``summary`` object of the episodes JSON (field names as keys)."""
@@ -206,6 +211,18 @@ def _finite_or_none(x: np.ndarray, fn) -> float | None:
     return float(fn(x)) if x.size else None
 
 
+def kind_share_pct(episodes: tuple[Episode, ...], kind: str, lo: float, hi: float) -> float | None:
+    """Percent of the window [lo, hi] (s) covered by episodes of one kind (None if empty)."""
+    spans = sorted((max(e.start_s, lo), min(e.end_s, hi)) for e in episodes if e.kind == kind)
+    covered, reach = 0.0, lo
+    for a, b in spans:
+        a = max(a, reach)
+        if b > a:
+            covered += b - a
+            reach = b
+    return _pct(covered, hi - lo)
+
+
 def summarise_session(
     session: Session,
     breaths: BreathTable,
@@ -245,6 +262,12 @@ def summarise_session(
         n_breaths=len(breaths),
         n_valid_breaths=int(valid.sum()),
         attention=tuple(_attention(session, episodes, quality)),
+        co2_low_amplitude_pct=kind_share_pct(episodes, "low_amplitude", lo, hi)
+        if session.co2
+        else None,
+        co2_signal_absent_pct=(
+            kind_share_pct(episodes, "co2_signal_absent", lo, hi) if session.co2 else None
+        ),
     )
 
 

@@ -107,6 +107,36 @@ def findings_flowables(analysis: Analysis, width_pt: float) -> list:
     return out
 
 
+#: What the reader should do about each CO2 signal finding.
+CO2_SIGNAL_TEXT: dict[str, str] = {
+    "low_amplitude": "Low-amplitude capnogram: mouth breathing, a displaced cannula or shallow "
+    "breathing - check against the clinical notes",
+    "co2_signal_absent": "No CO2 signal: disconnected or displaced line, or apnoea - check",
+}
+
+
+def co2_signal_flowables(analysis: Analysis) -> list:
+    """Low-amplitude and absent-CO2 stretches: when, how long, and their share of the window."""
+    s, summ = analysis.session, analysis.summary
+    out: list = []
+    shares = {
+        "low_amplitude": summ.co2_low_amplitude_pct,
+        "co2_signal_absent": summ.co2_signal_absent_pct,
+    }
+    for kind, text in CO2_SIGNAL_TEXT.items():
+        eps = [e for e in analysis.episodes if e.kind == kind]
+        if not eps:
+            continue
+        when = ", ".join(
+            f"{e.id} {clock_text(s, e.start_s)} to {clock_text(s, e.end_s)} ({e.duration_s:.0f} s)"
+            for e in eps
+        )
+        share = shares[kind]
+        pct = f"; {share:.1f} % of the sedation window" if share is not None else ""
+        out.append(Paragraph(para_text(f"\u2022 {text}: {when}{pct}."), styles.BODY))
+    return out
+
+
 def _invalid_text(count: int, by_reason: dict[str, int]) -> str:
     """``3 (short 2, low plateau 1)``, or ``0``."""
     detail = ", ".join(f"{words(str(k))} {v}" for k, v in by_reason.items())
@@ -129,6 +159,9 @@ CRITERION_WORDS: dict[str, str] = {
     "apnoea.min_duration_s": "shortest apnoea counted",
     "apnoea.prolonged_s": "prolonged apnoea from",
     "apnoea.breath_min_etco2_mmHg": "lowest EtCO2 that still counts as a breath",
+    "apnoea.rhythm_breaths": "smaller breaths count in a rhythmic run of",
+    "apnoea.rhythm_rate_min_per_min": "slowest rate of such a run",
+    "apnoea.rhythm_rate_max_per_min": "fastest rate of such a run",
     "hypoventilation.etco2_high_mmHg": "EtCO2 at or above",
     "hypoventilation.rise_from_baseline_mmHg": "EtCO2 rise above baseline",
     "hypoventilation.rise_from_baseline_pct": "relative EtCO2 rise above baseline",
@@ -163,6 +196,20 @@ CRITERION_WORDS: dict[str, str] = {
     "obstruction.smoothing_breaths": "breaths in the running median",
     "obstruction.min_duration_s": "shortest episode counted",
     "obstruction.max_interruption_s": "longest normal spell inside one episode",
+    "etco2_fall.fall_from_baseline_mmHg": "EtCO2 fall below baseline",
+    "etco2_fall.fall_from_baseline_pct": "relative EtCO2 fall below baseline",
+    "etco2_fall.min_duration_s": "shortest fall counted",
+    "etco2_fall.max_interruption_s": "longest normal spell inside one fall",
+    "low_amplitude.amplitude_fraction": "small breath: CO2 amplitude below",
+    "low_amplitude.onset_s": "abrupt: the amplitude halved within",
+    "low_amplitude.rate_change_pct": "unchanged rate: within",
+    "low_amplitude.spo2_fall_pct": "SpO2 fall that makes it hypoventilation",
+    "low_amplitude.min_duration_s": "shortest stretch counted",
+    "low_amplitude.max_interruption_s": "longest normal spell inside one stretch",
+    "co2_signal.flat_exact_s": "CO2 not changing at all for",
+    "co2_signal.max_apnoea_s": "pause read as no signal after",
+    "co2_signal.spo2_fall_pct": "SpO2 fall that keeps a long pause an apnoea",
+    "co2_signal.small_wave_mmHg": "rhythmic waves in a pause from",
     "signal_loss.co2_gap_s": "CO2 sample step that is a gap",
     "signal_loss.spo2_gap_s": "SpO2 sample step that is a gap",
     "signal_loss.min_duration_s": "shortest gap reported as an episode",
@@ -230,6 +277,7 @@ def quality_flowables(analysis: Analysis, width_pt: float) -> list:
         out.append(Paragraph(para_text(f"\u2022 Not assessed: {limit}"), styles.BODY))
     out.append(Paragraph("Gaps, artefacts and warnings", styles.H2))
     out += findings_flowables(analysis, width_pt)
+    out += co2_signal_flowables(analysis)
     out.append(
         Paragraph(
             para_text(

@@ -10,7 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from reportlab.graphics.shapes import Drawing, Group
+from reportlab.graphics.shapes import Drawing, Group, Rect
 
 from sedreport.analysis import Analysis
 from sedreport.render import styles
@@ -174,7 +174,36 @@ def _co2_strip(analysis: Analysis, p: Panel) -> Group:
                 cols_per_pt=TREND_COLS_PER_PT,
             ):
                 g.add(shp)
+        g.add(co2_finding_marks(analysis, p))
     g.add(frame_box(p))
+    return g
+
+
+#: Words on the CO2 strip for the CO2 findings that are not about ventilation.
+CO2_FINDING_WORDS: dict[str, str] = {
+    "low_amplitude": "low amplitude",
+    "co2_signal_absent": "no CO2 signal",
+}
+
+
+def co2_finding_marks(analysis: Analysis, p: Panel) -> Group:
+    """A bar along the foot of the CO2 strip for each low-amplitude or absent-signal stretch,
+    named where it is wide enough."""
+    g = Group()
+    for ep in analysis.episodes:
+        text = CO2_FINDING_WORDS.get(ep.kind)
+        if text is None:
+            continue
+        a, b = max(ep.start_s, p.t0_s), min(ep.end_s, p.t1_s)
+        if b <= a:
+            continue
+        x0, x1 = float(p.tx(a)), float(p.tx(b))
+        g.add(
+            Rect(x0, p.y + 0.5, max(x1 - x0, 1.5), 3.0, fillColor=styles.CO2_FINDING_FILL,
+                 strokeColor=None)
+        )  # fmt: skip
+        if x1 - x0 >= 5.0 * len(text) * 0.5:
+            g.add(label(x0 + 1.0, p.y + 5.0, text, 5.0))
     return g
 
 

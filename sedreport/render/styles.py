@@ -62,6 +62,8 @@ GRID = colors.Color(0.80, 0.80, 0.80)
 AXIS = colors.Color(0.35, 0.35, 0.35)
 BAND_FILL = colors.Color(0.86, 0.86, 0.90)
 BAND_EDGE = colors.Color(0.45, 0.45, 0.55)
+#: Marks on the CO2 strip for stretches where the CO2 says little about ventilation.
+CO2_FINDING_FILL = colors.Color(0.93, 0.80, 0.45)
 RULE = colors.Color(0.55, 0.55, 0.55)
 HEAD_FILL = colors.Color(0.90, 0.91, 0.93)
 ATTENTION_FILL = colors.Color(0.95, 0.95, 0.95)
