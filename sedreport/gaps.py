@@ -1,5 +1,8 @@
 """Gaps in a sampled stream: the one rule, applied with the active criteria's threshold.
 
+SpO2 samples count only where the oximeter gave a reading (:func:`spo2_sample_times`), so a
+long run of "no reading" is a gap like a missing row.
+
 A step between consecutive samples longer than ``max_step_s`` is a gap (DESIGN.md: never
 bridged by interpolation). The threshold is never a constant here: callers pass
 ``criteria.signal_loss.co2_gap_s`` or ``spo2_gap_s``, so that a criteria file that changes it
@@ -10,7 +13,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from sedreport.session import QualityFinding
+from sedreport.criteria import Criteria
+from sedreport.oximetry import mark_oximetry
+from sedreport.session import QualityFinding, Session
 
 
 def find_gaps(time_s: np.ndarray, max_step_s: float) -> tuple[np.ndarray, np.ndarray]:
@@ -82,3 +87,31 @@ def covered_s(time_s: np.ndarray, max_step_s: float, lo_s: float, hi_s: float) -
     b = np.clip(t[1:], lo_s, hi_s)
     ok = np.diff(t) <= max_step_s
     return float(np.sum((b - a)[ok]))
+
+
+def spo2_sample_times(session: Session, criteria: Criteria) -> np.ndarray:
+    """Times (s) that count as SpO2 samples for the gap rule.
+
+    The samples with a reading plus the file's first and last sample times (its bounds).
+    Empty when the session has no SpO2 samples.
+    """
+    if session.spo2 is None or session.spo2.time_s.size == 0:
+        return np.empty(0)
+    t = np.asarray(session.spo2.time_s, dtype=float)
+    read = mark_oximetry(session.spo2, criteria).reading_time_s
+    return np.unique(np.r_[t[0], read, t[-1]])
+
+
+def stream_gap_findings(session: Session, criteria: Criteria) -> list[QualityFinding]:
+    """Gap findings of the CO2 and SpO2 streams by the criteria's gap rule.
+
+    SpO2 samples without a usable reading are not samples
+    (:func:`spo2_sample_times`).
+    """
+    rule = criteria.signal_loss
+    out = []
+    if session.co2 is not None:
+        out.extend(gap_findings(session.co2.time_s, "co2", rule.co2_gap_s))
+    if session.spo2 is not None:
+        out.extend(gap_findings(spo2_sample_times(session, criteria), "spo2", rule.spo2_gap_s))
+    return out

@@ -329,7 +329,7 @@ def test_running_filters_equal_scipy_ndimage(n, size):
     # Reference library: scipy.ndimage (Virtanen et al., Nat Methods 2020), mode="nearest".
     from scipy.ndimage import percentile_filter, uniform_filter1d
 
-    from sedreport.capnography._filters import moving_mean, running_percentile
+    from sedreport.capnography.filters import moving_mean, running_percentile
 
     x = np.random.default_rng(n * 100 + size).normal(20.0, 10.0, n)
     np.testing.assert_allclose(

@@ -12,7 +12,7 @@ from click.testing import CliRunner, Result
 from sedreport.cli import cli
 from sedreport.criteria import default_criteria
 from sedreport.demo import SCENARIOS, load_truth, write_examples, write_scenario
-from sedreport.episodes.summary import stream_gap_findings
+from sedreport.gaps import stream_gap_findings
 from sedreport.ingest import load_session
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "example_sessions"

@@ -13,8 +13,8 @@ import pytest
 from test_ingest_support import co2_csv, make_session, spo2_csv
 
 from sedreport.criteria import default_criteria
-from sedreport.episodes.summary import stream_gap_findings
 from sedreport.errors import SessionError
+from sedreport.gaps import stream_gap_findings
 from sedreport.ingest import load_session
 
 

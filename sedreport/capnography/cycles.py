@@ -34,7 +34,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from sedreport.capnography._filters import moving_mean, running_percentile
+from sedreport.capnography.filters import moving_mean, running_percentile
 from sedreport.session import Capnogram
 
 

@@ -25,8 +25,8 @@ the run itself.
 from __future__ import annotations
 
 import numpy as np
-from scipy.ndimage import uniform_filter1d
 
+from sedreport.capnography.filters import moving_mean
 from sedreport.capnography.model import BreathTable, Trends
 from sedreport.criteria import Criteria
 from sedreport.episodes._intervals import Finding
@@ -106,7 +106,7 @@ def rhythmic_waves(
     if t.size < 8:
         return None
     fs = (t.size - 1) / max(t[-1] - t[0], 1e-9)
-    x = uniform_filter1d(y.astype(float), size=max(1, int(round(WAVE_SMOOTH_S * fs))))
+    x = moving_mean(y, max(1, int(round(WAVE_SMOOTH_S * fs))))
     lo, hi = np.percentile(x, [10.0, 90.0])
     if hi - lo < criteria.co2_signal.small_wave_mmHg:
         return None

@@ -15,22 +15,8 @@ import numpy as np
 
 from sedreport.criteria import Criteria
 from sedreport.episodes._intervals import Finding
-from sedreport.gaps import find_gaps
-from sedreport.oximetry import mark_oximetry
+from sedreport.gaps import find_gaps, spo2_sample_times
 from sedreport.session import Session
-
-
-def spo2_sample_times(session: Session, criteria: Criteria) -> np.ndarray:
-    """Times (s) that count as SpO2 samples for the gap rule.
-
-    The samples with a reading plus the file's first and last sample times (its bounds).
-    Empty when the session has no SpO2 samples.
-    """
-    if session.spo2 is None or session.spo2.time_s.size == 0:
-        return np.empty(0)
-    t = np.asarray(session.spo2.time_s, dtype=float)
-    read = mark_oximetry(session.spo2, criteria).reading_time_s
-    return np.unique(np.r_[t[0], read, t[-1]])
 
 
 def stream_gaps(session: Session, stream: str, criteria: Criteria) -> tuple[np.ndarray, np.ndarray]:

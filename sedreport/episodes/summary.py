@@ -18,8 +18,7 @@ from sedreport.criteria import Criteria
 from sedreport.episodes.linking import usable_spo2
 from sedreport.episodes.model import EPISODE_KINDS, SEVERITY_TIERS, Episode
 from sedreport.episodes.severity import tier_rank
-from sedreport.episodes.signal_loss import spo2_sample_times
-from sedreport.gaps import covered_s, gap_findings
+from sedreport.gaps import covered_s, stream_gap_findings
 from sedreport.oximetry import mark_oximetry
 from sedreport.session import QualityFinding, Session, SourceInfo
 
@@ -308,21 +307,6 @@ def _limitations(session: Session, breaths: BreathTable, baseline: Baseline) -> 
         )
     elif session.co2 is not None and not np.isfinite(baseline.phase3_slope_norm_per_s):
         out.append("No baseline phase III slope: obstruction judged on the upstroke only.")
-    return out
-
-
-def stream_gap_findings(session: Session, criteria: Criteria) -> list[QualityFinding]:
-    """Gap findings of the CO2 and SpO2 streams by the criteria's gap rule.
-
-    SpO2 samples without a usable reading are not samples
-    (:func:`sedreport.episodes.signal_loss.spo2_sample_times`).
-    """
-    rule = criteria.signal_loss
-    out = []
-    if session.co2 is not None:
-        out.extend(gap_findings(session.co2.time_s, "co2", rule.co2_gap_s))
-    if session.spo2 is not None:
-        out.extend(gap_findings(spo2_sample_times(session, criteria), "spo2", rule.spo2_gap_s))
     return out
 
 

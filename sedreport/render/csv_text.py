@@ -11,12 +11,16 @@ from __future__ import annotations
 import io
 import math
 from collections import Counter
+from typing import TYPE_CHECKING
 
 import pandas as pd
 
-from sedreport.analysis import Analysis
 from sedreport.capnography.breaths import breaths_to_frame
 from sedreport.capnography.model import BreathTable
+
+if TYPE_CHECKING:  # types only: the text outputs must not load the detectors
+    from sedreport.analysis import Analysis
+
 
 #: Decimal places per breath column in CSV, JSON and table output.
 BREATH_DECIMALS = {

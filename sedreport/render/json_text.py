@@ -9,18 +9,21 @@ from __future__ import annotations
 import json
 import math
 from dataclasses import asdict
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from sedreport.analysis import Analysis
 from sedreport.capnography.breaths import breaths_to_frame
 from sedreport.capnography.model import BreathTable
 from sedreport.criteria import Criteria
-from sedreport.episodes.model import Episode
-from sedreport.episodes.summary import stream_gap_findings
+from sedreport.gaps import stream_gap_findings
 from sedreport.render.cautions import caution_line
 from sedreport.render.csv_text import BREATH_DECIMALS, breath_reason_counts
 from sedreport.session import Session
+
+if TYPE_CHECKING:  # types only: the text outputs must not load the detectors
+    from sedreport.analysis import Analysis
+    from sedreport.episodes.model import Episode
 
 
 def json_ready(x: object) -> object:

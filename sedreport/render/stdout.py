@@ -6,12 +6,17 @@
 
 from __future__ import annotations
 
-from sedreport.analysis import Analysis
+from typing import TYPE_CHECKING
+
 from sedreport.capnography.model import BreathTable
 from sedreport.criteria import Criteria
 from sedreport.render.csv_text import breaths_csv, episodes_csv
 from sedreport.render.json_text import breaths_json, episodes_json
 from sedreport.render.terminal import breaths_table, episode_table
+
+if TYPE_CHECKING:  # types only: the text outputs must not load the detectors
+    from sedreport.analysis import Analysis
+
 
 #: The output forms of ``breaths`` and ``episodes``.
 FORMATS: tuple[str, ...] = ("table", "csv", "json")

@@ -6,13 +6,17 @@ Each ends with the one-line caution of ``templates/cautions.yaml``.
 from __future__ import annotations
 
 import math
+from typing import TYPE_CHECKING
 
-from sedreport.analysis import Analysis
 from sedreport.capnography.breaths import CONTRACT_COLUMNS, breaths_to_frame
 from sedreport.capnography.model import BreathTable
 from sedreport.criteria import Criteria
 from sedreport.render.cautions import caution_line
 from sedreport.render.csv_text import breath_cell
+
+if TYPE_CHECKING:  # types only: the text outputs must not load the detectors
+    from sedreport.analysis import Analysis
+
 
 #: Gaps listed one by one in the check text (JSON lists all).
 MAX_GAPS_SHOWN = 20
