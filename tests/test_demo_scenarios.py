@@ -25,7 +25,7 @@ EPISODE_KINDS = {
     "hypoventilation",
     "desaturation",
     "rebreathing",
-    "obstruction",
+    "sloped_plateau",
     "signal_loss",
 }
 
@@ -111,7 +111,7 @@ def test_planted_episodes_per_scenario(runs):
         "quiet_colonoscopy": [],
         "upper_gi_apnoea": ["apnoea"],
         "radiology_opioid_hypoventilation": ["hypoventilation"],
-        "copd_obstruction": ["obstruction"],
+        "copd_sloped_plateau": ["sloped_plateau"],
         "rebreathing_under_drapes": ["rebreathing"],
         "gap_and_probe_artefact": ["signal_loss"],
         "desaturation_bag_mask": ["apnoea", "desaturation"],
@@ -185,11 +185,11 @@ def _slopes(sig, truth, sel):
     return np.array(out)
 
 
-def test_obstruction_is_several_times_own_baseline_slope(runs):
-    # Obstruction is judged against the patient's own baseline shape (DESIGN.md): the COPD
+def test_sloped_plateau_is_several_times_own_baseline_slope(runs):
+    # A sloped plateau is judged against the patient's own baseline shape (DESIGN.md): the COPD
     # baseline plateau is already sloped, the obstructive stretch is several times steeper.
-    spec, sig, truth = runs["copd_obstruction"]
-    ((a, z),) = _windows(truth, "obstruction")
+    spec, sig, truth = runs["copd_sloped_plateau"]
+    ((a, z),) = _windows(truth, "sloped_plateau")
     st = np.array(truth["breaths"]["start_s"])
     base = np.median(_slopes(sig, truth, st < spec.first_dose_s))
     stretch = np.median(_slopes(sig, truth, (st >= a) & (st < z)))
@@ -250,7 +250,9 @@ def _file_times(folder, name, started):
     return secs, values
 
 
-@pytest.mark.parametrize("name", ["upper_gi_apnoea", "copd_obstruction", "gap_and_probe_artefact"])
+@pytest.mark.parametrize(
+    "name", ["upper_gi_apnoea", "copd_sloped_plateau", "gap_and_probe_artefact"]
+)
 def test_clock_offset_sign_and_breath_times_in_file(tmp_path, name):
     # DESIGN.md: clock_offset_s is ADDED to file times to get session times, so a monitor
     # running 4 s fast writes session + 4 s and declares clock_offset_s: -4.

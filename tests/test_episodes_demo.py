@@ -74,8 +74,8 @@ def test_hypoventilation_subtype_matches_planted(demo):
     planted = [e for e in truth["episodes"] if e["kind"] == "hypoventilation"]
     found = [e for e in analysis.episodes if e.kind == "hypoventilation"]
     assert [e.subtype for e in found] == [p["subtype"] for p in planted] == ["bradypnoeic"]
-    # naloxone (a reversal agent) is a moderate-risk intervention (Mason et al., Br J Anaesth
-    # 2012, from memory); the scenario gives it at 1500 s, inside the episode
+    # naloxone (a reversal agent) is a moderate-risk intervention (Mason 2012, as reproduced in
+    # Trials 2022 Table 4); the scenario gives it at 1500 s, inside the episode
     assert found[0].severity == "moderate"
     assert "reversal_agent" in [i.event for i in found[0].interventions]
 
@@ -92,7 +92,8 @@ def test_apnoea_doses_and_interventions_linked(demo):
     lbw = lean_body_weight_kg(82.0, 178.0, "male")
     assert doses["propofol"].cumulative_mg_per_kg_lbw == pytest.approx(50.0 / lbw)
     assert doses["fentanyl"].cumulative_mg == pytest.approx(0.025)
-    # jaw thrust at 333 s is airway repositioning: minor-risk (Mason 2012, from memory)
+    # jaw thrust at 333 s is airway repositioning: minor-risk (Mason 2012, as reproduced in
+    # Trials 2022 Table 4)
     assert [i.event for i in apnoea.interventions] == ["airway_repositioning"]
     assert apnoea.severity == "minor"
 
@@ -101,7 +102,8 @@ def test_prolonged_apnoea_with_bag_mask_is_sentinel(demo):
     _, _, analysis = demo["desaturation_bag_mask"]
     (apnoea,) = [e for e in analysis.episodes if e.kind == "apnoea"]
     assert apnoea.duration_s > CRIT.apnoea.prolonged_s
-    assert apnoea.severity == "sentinel"  # prolonged apnoea > 60 s (Mason 2012, from memory)
+    # prolonged apnoea > 60 s is sentinel (Mason 2012, as reproduced in Trials 2022 Table 4)
+    assert apnoea.severity == "sentinel"
     assert "bag_mask_ventilation" in [i.event for i in apnoea.interventions]
     assert apnoea.capnographic_lead_s is not None and apnoea.capnographic_lead_s > 0
 
@@ -116,7 +118,10 @@ def test_gap_is_signal_loss_never_apnoea(demo):
 def test_json_is_valid_and_has_the_contract_keys(demo):
     _, _, analysis = demo["desaturation_bag_mask"]
     d = json.loads(json.dumps(episodes_to_dict(analysis), allow_nan=False))
-    assert list(d) == ["session_id", "started", "criteria", "episodes", "summary", "quality"]
+    assert list(d) == [
+        "session_id", "started", "criteria", "episodes", "events", "brief_dips", "summary",
+        "quality",
+    ]  # fmt: skip
     assert d["episodes"][0]["id"] == "E1"
     assert d["quality"]["criteria"]["sha256"] == CRIT.sha256
 

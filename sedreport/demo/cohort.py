@@ -44,7 +44,7 @@ _REQUIRED = (
     "regimens",
     "events",
     "desaturation_given_apnoea",
-    "obstruction_given_copd",
+    "sloped_plateau_given_copd",
     "asa_multiplier",
 )
 _REGIMENS = ("propofol", "propofol_fentanyl", "propofol_infusion", "midazolam_fentanyl")
@@ -166,7 +166,7 @@ def _plant(
             events.append((round(start + dur - 15.0), "physical_stimulus", None, ""))
     for kind, prob in (
         ("rebreathing", ev["rebreathing"].get(regimen, 0.0)),
-        ("obstruction", recipe["obstruction_given_copd"] if copd else 0.0),
+        ("sloped_plateau", recipe["sloped_plateau_given_copd"] if copd else 0.0),
         ("co2_gap", ev["co2_gap"].get(regimen, 0.0)),
         ("spo2_artefact", ev["spo2_artefact"].get(regimen, 0.0)),
     ):
@@ -174,7 +174,7 @@ def _plant(
             continue
         dur = {
             "rebreathing": (120, 240),
-            "obstruction": (150, 300),
+            "sloped_plateau": (150, 300),
             "co2_gap": (20, 90),
             "spo2_artefact": (15, 40),
         }[kind]
@@ -193,7 +193,7 @@ def _plant(
 def _make(kind: str, start: float, length: float, rng):
     if kind == "rebreathing":
         return Rebreathing(start, length, rng.uniform(7.5, 10.0), 15.0)
-    if kind == "obstruction":
+    if kind == "sloped_plateau":
         return Obstruction(start, length, rng.uniform(4.0, 5.0), 2.5)
     if kind == "co2_gap":
         return Gap("co2", start, length)

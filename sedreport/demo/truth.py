@@ -107,14 +107,14 @@ def _rebreathings(spec: CaseSpec, sig: Signals) -> list[dict]:
     return out
 
 
-def _obstructions(spec: CaseSpec, sig: Signals) -> list[dict]:
+def _sloped_plateaus(spec: CaseSpec, sig: Signals) -> list[dict]:
     s = sig.schedule
     out = []
     for o in spec.planted_of(Obstruction):
         window = (s.start_s >= o.start_s) & (s.start_s < o.start_s + o.duration_s)
         idx = np.flatnonzero(window & s.obstructed)
         if idx.size:
-            out.append(_episode("obstruction", None, s.start_s[idx[0]], s.end_s[idx[-1]]))
+            out.append(_episode("sloped_plateau", None, s.start_s[idx[0]], s.end_s[idx[-1]]))
     return out
 
 
@@ -162,7 +162,7 @@ def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
         _apnoeas(sig)
         + _hypoventilations(spec, sig)
         + _rebreathings(spec, sig)
-        + _obstructions(spec, sig)
+        + _sloped_plateaus(spec, sig)
         + _desaturations(sig)
         + [_episode("signal_loss", g["source"], g["start_s"], g["end_s"]) for g in gaps]
     )

@@ -167,6 +167,7 @@ def _session(
         oxygen=spec.oxygen,
         barometric_mmHg=spec.barometric_mmHg,
         criteria_file=_criteria(spec, ctx),
+        outcome=spec.outcome,
         co2=loaded["co2"].data if "co2" in loaded else None,
         spo2=loaded["spo2"].data if "spo2" in loaded else None,
         doses=loaded["doses"].data if "doses" in loaded else (),
