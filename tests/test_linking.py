@@ -162,7 +162,7 @@ CONTRACT_EPISODE = {
     "id", "kind", "subtype", "start_s", "end_s", "duration_s", "start_time", "severity",
     "peak_etco2_mmHg", "min_spo2_pct", "min_rr_per_min", "preceding_doses", "interventions",
     "notes", "time_to_first_intervention_s", "time_to_resolution_s", "capnographic_lead_s",
-    "event", "infusions_at_onset", "doses_during",
+    "event", "infusions_at_onset", "doses_during", "cumulative_at_onset",
 }  # fmt: skip
 SUMMARY_KEYS = {
     "sedation_start_s", "sedation_end_s", "sedation_duration_s", "co2_coverage_pct",

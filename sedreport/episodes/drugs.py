@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from sedreport.criteria import Criteria
-from sedreport.episodes.model import LinkedDose, RunningInfusion
+from sedreport.episodes.model import DrugTotal, LinkedDose, RunningInfusion
 from sedreport.session import Patient, Session
 
 
@@ -67,6 +67,17 @@ def doses_during(session: Session, onset_s: float, end_s: float) -> tuple[Linked
     The cumulative amounts are those at onset, like :func:`link_doses`.
     """
     return tuple(_linked(session, d, onset_s) for d in session.doses if onset_s < d.time_s <= end_s)
+
+
+def cumulative_at(session: Session, t_s: float) -> tuple[DrugTotal, ...]:
+    """Each drug given up to ``t_s`` with its cumulative mg and mg/kg (total body weight)."""
+    weight = session.patient.weight_kg or None
+    out = []
+    for drug in session.drugs:
+        mg = float(session.cumulative_mg(drug, t_s))
+        if mg > 0:
+            out.append(DrugTotal(drug, mg, _per(mg, weight)))
+    return tuple(out)
 
 
 def infusions_at(session: Session, t_s: float) -> tuple[RunningInfusion, ...]:

@@ -10,7 +10,7 @@ import numpy as np
 from sedreport.capnography.model import BreathTable, Trends
 from sedreport.criteria import Criteria
 from sedreport.episodes._intervals import Finding
-from sedreport.episodes.drugs import doses_during, infusions_at, link_doses
+from sedreport.episodes.drugs import cumulative_at, doses_during, infusions_at, link_doses
 from sedreport.episodes.model import Episode, LinkedIntervention
 from sedreport.episodes.severity import intervention_tier
 from sedreport.session import Session
@@ -126,4 +126,5 @@ def link_episode(
         capnographic_lead_s=capnographic_lead_s(finding, spo2_t, spo2_v, criteria),
         infusions_at_onset=infusions_at(session, finding.start_s),
         doses_during=doses_during(session, finding.start_s, finding.end_s),
+        cumulative_at_onset=cumulative_at(session, finding.start_s),
     )

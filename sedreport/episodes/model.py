@@ -49,6 +49,16 @@ class RunningInfusion:
 
 
 @dataclass(frozen=True)
+class DrugTotal:
+    """A drug's cumulative amount at an episode's onset (boluses plus integrated infusions):
+    mg, and mg/kg of total body weight (None when the weight is unknown)."""
+
+    drug: str
+    cumulative_mg: float
+    cumulative_mg_per_kg: float | None
+
+
+@dataclass(frozen=True)
 class LinkedIntervention:
     """An intervention shortly before, during or just after an episode.
 
@@ -99,6 +109,8 @@ class Episode:
         Infusions running at onset.
     doses_during : tuple of LinkedDose
         Doses given after onset up to the episode's end (``seconds_before_onset`` negative).
+    cumulative_at_onset : tuple of DrugTotal
+        Every drug given before onset, with its cumulative mg and mg/kg at onset.
     """
 
     id: str
@@ -121,6 +133,7 @@ class Episode:
     event: str | None = None
     infusions_at_onset: tuple[RunningInfusion, ...] = ()
     doses_during: tuple[LinkedDose, ...] = ()
+    cumulative_at_onset: tuple[DrugTotal, ...] = ()
 
 
 @dataclass(frozen=True)
