@@ -252,7 +252,6 @@ class Session:
     oxygen: Oxygen = field(default_factory=Oxygen)
     barometric_mmHg: float = 760.0
     criteria_file: str | None = None
-    outcome: tuple[str, ...] = ()
     co2: Capnogram | None = None
     spo2: OximetryTrend | None = None
     doses: tuple[Dose, ...] = ()
@@ -260,6 +259,7 @@ class Session:
     sources: tuple[SourceInfo, ...] = ()
     findings: tuple[QualityFinding, ...] = ()
     warnings: tuple[str, ...] = ()
+    outcome: tuple[str, ...] = ()
 
     # ----- derived views -------------------------------------------------------------------
     @property

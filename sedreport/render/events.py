@@ -71,14 +71,11 @@ def event_flowables(analysis: Analysis, width_pt: float) -> list:
     out.append(
         Paragraph(
             para_text(
-                "An adverse event is one or more linked episodes (overlapping, or starting within "
-                f"{analysis.criteria.events.link_window_s:g} s of the previous one's end) with "
-                "their interventions and the session's outcome, graded once by the highest of its "
-                "descriptor, intervention and outcome tiers after the World SIVA adverse sedation "
-                "event tool (Mason et al., Br J Anaesth 2012): minimal, minor, moderate, "
-                "sentinel. A data gap, a sloped plateau or rebreathing with no graded "
-                "intervention is a finding, not an adverse event. 'CO2 lead': from the first "
-                "apnoea or hypoventilation onset to the first SpO2 below the threshold."
+                "Linked episodes (overlapping, or within "
+                f"{analysis.criteria.events.link_window_s:g} s of the previous end) graded once "
+                "by the highest of descriptor, intervention and outcome tier (World SIVA tool, "
+                "Mason et al., Br J Anaesth 2012). A gap, a sloped plateau or rebreathing with no "
+                "graded intervention is a finding, not an adverse event."
             ),
             styles.SMALL,
         )

@@ -155,6 +155,8 @@ CRITERION_WORDS: dict[str, str] = {
     "linking.dose_lookback_s": "doses linked from this long before onset",
     "linking.intervention_after_s": "actions linked up to this long after the end",
     "linking.lead_window_s": "SpO2 fall linked up to this long after the end",
+    "linking.intervention_before_s": "actions linked from this long before onset",
+    "events.link_window_s": "episodes starting within this of the last end: one event",
 }
 
 #: Units of the criteria files as a person reads them.

@@ -346,11 +346,9 @@ def episode_flowables(analysis: Analysis, width_pt: float) -> list:
     out.append(grid_table(rows, widths, terms=terms))
     out.append(
         Paragraph(
-            "'Event' is the adverse event the episode belongs to and that event's tier, graded once "
-            "after the World SIVA adverse sedation event tool (Mason et al., Br J Anaesth 2012); "
-            "'finding' means the episode is listed but is not an adverse event by that tool. "
-            "'CO2 lead' is how long the apnoea or hypoventilation preceded the first SpO2 below "
-            "the desaturation threshold it led to. Times are clock times; '+24 s' is after onset.",
+            "'Event': the adverse event the episode belongs to, with its tier; 'finding' means "
+            "listed, not an adverse event. 'CO2 lead': from the apnoea or hypoventilation onset "
+            "to the first SpO2 below the threshold. '+24 s' is after onset.",
             styles.SMALL,
         )
     )
