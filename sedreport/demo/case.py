@@ -125,12 +125,25 @@ class Spo2Artefact:
 
 
 @dataclass(frozen=True)
+class Spo2Dip:
+    """A true (not artefact) fall of SpO2 to ``nadir_pct``: a linear fall over ``ramp_s``, a
+    hold, a linear rise over ``ramp_s``, ``duration_s`` in all (e.g. a brief deep dip from a
+    short airway obstruction). The simulated trend is held at or below this profile."""
+
+    start_s: float
+    duration_s: float
+    nadir_pct: float
+    ramp_s: float = 8.0
+
+
+@dataclass(frozen=True)
 class CaseSpec:
     """Everything needed to simulate and write one invented session.
 
     ``doses`` rows are ``(time_s, drug, dose, unit, route)``; ``events`` rows are
     ``(time_s, event, value_or_None, note)``. ``co2_offset_s`` / ``spo2_offset_s`` are the
     ``clock_offset_s`` written to ``session.yaml`` (file times = session times - offset).
+    ``outcome`` holds the ``session.yaml`` outcome words (empty: no adverse outcome).
     """
 
     session_id: str
@@ -156,6 +169,7 @@ class CaseSpec:
     spo2_offset_s: float = 0.0
     barometric_mmHg: float = 760.0
     description: str = ""
+    outcome: tuple[str, ...] = ()
 
     def planted_of(self, kind: type) -> list:
         """Planted items of one class, in time order."""

@@ -27,6 +27,7 @@ from sedreport.demo.case import (
     Rebreathing,
     Spo2Artefact,
 )
+from sedreport.demo.cohort_events import draw_event_extras
 from sedreport.demo.examples import case_rng, simulate_and_write
 from sedreport.demo.oximetry import OxygenParams
 from sedreport.demo.pharmacology import peak_effect_s
@@ -224,6 +225,11 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
         (t0 + 60.0, duration - 120.0),
     )
     copd = "copd" in conds
+    extra_rng = case_rng(seed, f"cohort-{index}-events")
+    dips, dip_events, outcome = draw_event_extras(
+        extra_rng, recipe, planted, t0 + 60.0, duration - 120.0
+    )
+    planted, events = [*planted, *dips], [*events, *dip_events]
     oxy = OxygenParams(
         aa_gradient_mmHg=rng.uniform(30, 40) if copd else rng.uniform(8, 15),
         apnoea_drop_mmHg_s=override.get("apnoea_drop_mmHg_s", rng.uniform(0.8, 1.1)),
@@ -273,6 +279,7 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
         flow_l_min=float(override.get("flow_l_min", _pick(rng, recipe["oxygen_flow_l_min"]))),
         co2_rate_hz=float(rng.choice(recipe["co2_rate_hz"])),
         description=f"Invented cohort case, regimen {regimen}.",
+        outcome=outcome,
     )
 
 

@@ -20,6 +20,7 @@ from sedreport.demo.case import (
     Spo2Artefact,
 )
 from sedreport.demo.oximetry import OxygenParams
+from sedreport.demo.scenarios_events import brief_deep_desaturation, outcome_unplanned_admission
 
 #: Depth score note: the MOAA/S scale (Chernik et al., J Clin Psychopharmacol 1990).
 _MOAAS = "MOAA/S"
@@ -353,5 +354,7 @@ SCENARIOS: dict[str, CaseSpec] = {
         _rebreathing_under_drapes(),
         _gap_and_probe_artefact(),
         _desaturation_bag_mask(),
+        brief_deep_desaturation(),
+        outcome_unplanned_admission(),
     )
 }

@@ -21,6 +21,7 @@ from sedreport.demo.case import (
     Spo2Artefact,
 )
 from sedreport.demo.simulate import Signals
+from sedreport.demo.truth_events import truth_events
 
 TRUTH_FORMAT = "sedreport-truth/1"
 #: Default-criteria values used to date the edges of ramped plants (see module doc).
@@ -179,6 +180,8 @@ def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
             "fico2_mmHg": [_r(x, 2) for x in s.fico2_mmHg],
         },
         "episodes": episodes,
+        "events": truth_events(spec, sig, episodes),
+        "outcome": list(spec.outcome),
         "gaps": gaps,
         "artefacts": _artefacts(spec, sig),
     }
