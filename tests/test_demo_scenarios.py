@@ -92,6 +92,8 @@ def test_truth_format_and_time_order(runs):
             "seed",
             "breaths",
             "episodes",
+            "events",
+            "outcome",
             "gaps",
             "artefacts",
         ]
@@ -115,9 +117,34 @@ def test_planted_episodes_per_scenario(runs):
         "rebreathing_under_drapes": ["rebreathing"],
         "gap_and_probe_artefact": ["signal_loss"],
         "desaturation_bag_mask": ["apnoea", "desaturation"],
+        "brief_deep_desaturation": ["apnoea", "desaturation"],
+        "outcome_unplanned_admission": ["desaturation"],
     }
     for name, kinds in expected.items():
         assert [e["kind"] for e in runs[name][2]["episodes"]] == kinds, name
+
+
+def test_truth_events_graded_after_world_siva(runs):
+    """Truth events from the planted episodes, graded after Mason et al., Br J Anaesth 2012
+    (as reproduced in Trials 2022 Table 4): highest of descriptor, intervention, outcome."""
+    got = {
+        name: [(e["episodes"], e["severity"], e["outcome"]) for e in truth["events"]]
+        for name, (_, _, truth) in runs.items()
+    }
+    assert got["quiet_colonoscopy"] == [] and got["gap_and_probe_artefact"] == []
+    # apnoea > 60 s (sentinel) -> desaturation -> bag-mask ventilation (moderate): one event
+    assert got["desaturation_bag_mask"] == [([0, 1], "sentinel", [])]
+    # SpO2 down to 72 % (< 75 % at any time: sentinel) for under 30 s, after a short apnoea
+    assert got["brief_deep_desaturation"] == [([0, 1], "sentinel", [])]
+    # desaturation 85 % (minor) + suction, oxygen (minor) + unplanned admission (moderate)
+    assert got["outcome_unplanned_admission"] == [([0], "moderate", ["unplanned_admission"])]
+    # sloped plateau and rebreathing are findings; an intervention linked makes them events
+    assert got["copd_sloped_plateau"] == [([0], "minor", [])]
+    spec, sig, truth = runs["brief_deep_desaturation"]
+    (desat,) = [e for e in truth["episodes"] if e["kind"] == "desaturation"]
+    assert desat["end_s"] - desat["start_s"] < 30.0
+    inside = (sig.spo2_time_s >= desat["start_s"]) & (sig.spo2_time_s < desat["end_s"])
+    assert sig.spo2_pct[inside].min() == 72.0
 
 
 def test_apnoea_dated_from_breaths_and_clear_cut(runs):

@@ -10,7 +10,7 @@ from sedreport.demo.case import Apnoea, CaseSpec, Physiology, Spo2Dip
 
 
 def brief_deep_desaturation() -> CaseSpec:
-    """A short airway obstruction (seen as a 22 s pause in the CO2) and an SpO2 dip to 72 %
+    """A short airway obstruction (seen as a pause of about 22 s in the CO2) and an SpO2 dip to 72 %
     that stays below 90 % for under 30 s: a sentinel descriptor by the World SIVA tool
     (SpO2 < 75 % at any time), though shorter than the desaturation listing minimum."""
     return CaseSpec(
@@ -46,7 +46,7 @@ def brief_deep_desaturation() -> CaseSpec:
             (1290.0, "procedure_end", None, ""),
         ),
         planted=(
-            Apnoea(onset_s=542.0, pause_s=22.0),
+            Apnoea(onset_s=540.0, pause_s=25.0),
             Spo2Dip(start_s=566.0, duration_s=24.0, nadir_pct=72.0, ramp_s=8.0),
         ),
         flow_l_min=2.0,
