@@ -33,6 +33,7 @@ from sedreport.render.provenance import (
     signoff_flowables,
 )
 from sedreport.render.quality import quality_flowables
+from sedreport.render.shape import shape_overlay
 from sedreport.render.styles import para_text
 from sedreport.render.tables import dose_flowables, episode_flowables
 
@@ -137,8 +138,10 @@ def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
         a, b = closeups.windows(ep)[0][0], closeups.windows(ep)[-1][1]
         terms = standard_terms("CO2", "SpO2", "E1, E2") | span_terms(s, a, b)
         drawing = closeups.closeup(analysis, ep, width_pt, line)
+        inset = shape_overlay(analysis, ep, width_pt)
+        extra = [inset] if inset is not None else []
         lead, head = head, []
-        out.append(KeepTogether([*lead, caption, drawing, TermMark(terms), Spacer(1, 6)]))
+        out.append(KeepTogether([*lead, caption, drawing, *extra, TermMark(terms), Spacer(1, 6)]))
     return out
 
 
