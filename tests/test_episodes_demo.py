@@ -21,7 +21,7 @@ from click.testing import CliRunner, Result
 from sedreport.analysis import analyse_session
 from sedreport.cli import cli
 from sedreport.criteria import load_criteria
-from sedreport.demo import SCENARIOS, load_truth, write_scenario
+from sedreport.demo import SCENARIOS, load_truth, write_cohort, write_scenario
 from sedreport.episodes import lean_body_weight_kg
 from sedreport.episodes.scoring import match_episodes
 from sedreport.ingest import load_session
@@ -196,3 +196,37 @@ def test_detection_survives_noise_and_low_rate(demo, name, noise_sd_mmHg, target
     analysis = analyse_session(distort(load_session(folder), noise_sd_mmHg, target_hz))
     score = match_episodes(analysis.episodes, expected(truth), ONSET_TOL_S)
     assert score.misses == [] and score.false_positives == []
+
+
+@pytest.mark.parametrize("name", list(SCENARIOS))
+def test_event_tiers_equal_truth(demo, name):
+    """Adverse events found equal the true events (graded from the planted episodes after the
+    World SIVA tool, Mason et al., Br J Anaesth 2012, as reproduced in Trials 2022 Table 4):
+    same number, same episodes' kinds, same tier, same outcome."""
+    _, truth, analysis = demo[name]
+    kinds = [e["kind"] for e in truth["episodes"]]
+    want = [
+        ([kinds[i] for i in ev["episodes"]], ev["severity"], ev["outcome"])
+        for ev in truth["events"]
+    ]
+    by_id = {e.id: e.kind for e in analysis.episodes}
+    got = [
+        ([by_id[i] for i in ev.episodes], ev.severity, [o.text for o in ev.outcome])
+        for ev in analysis.events
+    ]
+    assert got == want
+
+
+def test_cohort_event_tiers_equal_truth(tmp_path):
+    """On an invented cohort of 60 sessions every true adverse event is found with its tier
+    (the issue asks >= 95 %; benchmarks/bench_events.py prints the figures on 1,000)."""
+    folders = write_cohort(tmp_path, 60, seed=0)
+    n_true = n_equal = 0
+    for folder in map(Path, folders):
+        truth = load_truth(folder.parent / f"{folder.name}.truth.json")
+        found = sorted(e.severity for e in analyse_session(load_session(folder)).events)
+        want = sorted(e["severity"] for e in truth["events"])
+        n_true += len(want)
+        n_equal += sum(min(want.count(t), found.count(t)) for t in set(want))
+        assert len(found) == len(want), folder.name
+    assert n_true >= 5 and n_equal / n_true >= 0.95

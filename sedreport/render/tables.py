@@ -304,10 +304,7 @@ def episode_row(session: Session, ep: Episode) -> list:
         cell(intervention_lines(ep)),
         cell(duration_text(ep.time_to_resolution_s)),
         cell(lead),
-        cell(
-            f"{ep.event} {severity_text(ep.severity)}" if ep.event else severity_text(ep.severity),
-            styles.CELL_BOLD,
-        ),
+        cell([ep.event, severity_text(ep.severity)] if ep.event else "finding", styles.CELL_BOLD),
     ]
 
 
@@ -342,7 +339,7 @@ def episode_flowables(analysis: Analysis, width_pt: float) -> list:
     rows = [head] + [episode_row(analysis.session, ep) for ep in analysis.episodes]
     terms = standard_terms("CO2", "EtCO2", "SpO2", "RR", "E1, E2")
     terms |= dose_terms(d for ep in analysis.episodes for d in ep.preceding_doses)
-    widths = scaled([0.4, 1.15, 0.8, 0.8, 1.65, 1.8, 1.95, 0.85, 0.9, 0.75], width_pt)
+    widths = scaled([0.4, 1.15, 0.8, 0.8, 1.6, 1.75, 1.9, 0.85, 0.8, 0.95], width_pt)
     out.append(grid_table(rows, widths, terms=terms))
     out.append(
         Paragraph(
