@@ -25,6 +25,7 @@ from sedreport.demo import SCENARIOS, load_truth, write_cohort, write_scenario
 from sedreport.episodes import lean_body_weight_kg
 from sedreport.episodes.scoring import match_episodes
 from sedreport.ingest import load_session
+from sedreport.render.events import rr_for_strip
 from sedreport.render.json_text import episodes_to_dict
 from sedreport.session import Capnogram
 
@@ -230,3 +231,40 @@ def test_cohort_event_tiers_equal_truth(tmp_path):
         n_equal += sum(min(want.count(t), found.count(t)) for t in set(want))
         assert len(found) == len(want), folder.name
     assert n_true >= 5 and n_equal / n_true >= 0.95
+
+
+def test_infusion_running_and_doses_during_are_linked(demo):
+    """Scenario desaturation_bag_mask: propofol 75 mcg/kg/min from 240 s for a 118 kg patient
+    is 75e-3 mg/kg/min x 118 kg x 60 min/h = 531 mg/h at the apnoea's onset (about 641 s);
+    the 50 mcg/kg/min line at 700 s is given during the apnoea (641-712 s)."""
+    _, _, analysis = demo["desaturation_bag_mask"]
+    apnoea = next(e for e in analysis.episodes if e.kind == "apnoea")
+    (inf,) = apnoea.infusions_at_onset
+    assert (inf.drug, inf.rate, inf.unit) == ("propofol", 75.0, "mcg/kg/min")
+    assert inf.rate_mg_per_h == pytest.approx(531.0)
+    assert [(d.dose, d.unit) for d in apnoea.doses_during] == [(50.0, "mcg/kg/min")]
+    totals = {t.drug: t for t in apnoea.cumulative_at_onset}
+    # 40 + 20 mg boluses + 531 mg/h for (onset - 240) s
+    want = 60.0 + 531.0 * (apnoea.start_s - 240.0) / 3600.0
+    assert totals["propofol"].cumulative_mg == pytest.approx(want)
+    assert totals["propofol"].cumulative_mg_per_kg == pytest.approx(want / 118.0)
+
+
+def test_attention_lists_every_event_and_every_gap(demo):
+    _, _, gap = demo["gap_and_probe_artefact"]
+    # the planted 75 s CO2 gap at 822 s (11:13:42 clock, session started 11:00:00)
+    assert any(a.startswith("CO2 gap during sedation at 11:13:4") for a in gap.summary.attention)
+    assert gap.events == ()
+    _, _, ugi = demo["upper_gi_apnoea"]
+    (line,) = [a for a in ugi.summary.attention if a.startswith("Adverse event")]
+    assert "A1" in line and "minor" in line  # a minor event is listed too, not only moderate+
+
+
+def test_rr_strip_is_zero_across_apnoea(demo):
+    _, _, analysis = demo["desaturation_bag_mask"]
+    apnoea = next(e for e in analysis.episodes if e.kind == "apnoea")
+    t, rr = rr_for_strip(analysis)
+    inside = (t >= apnoea.start_s) & (t <= apnoea.end_s)
+    assert inside.sum() > 60 and np.all(rr[inside] == 0.0)
+    # the trend itself (trailing 60 s window) is not zero there: the strip shows the pause
+    assert np.nanmax(np.asarray(analysis.trends.rr_per_min)[inside]) > 0
