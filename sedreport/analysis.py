@@ -118,8 +118,12 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
 def _dip_line(session: Session, dip: Dip, criteria: Criteria) -> str:
     """The attention sentence of a brief SpO2 dip (listed, never dropped silently)."""
     c = criteria.desaturation
+    why = (
+        "its fall or recovery was not recorded (a gap or the recording's edge), so it is not graded"
+        if not dip.observed
+        else f"shorter than the {c.min_duration_s:g} s listing minimum, so not an episode"
+    )
     return (
         f"Brief SpO2 dip below {c.spo2_below_pct:g} % at {session.clock_time(dip.start_s):%H:%M:%S}"
-        f" (lowest {dip.min_spo2_pct:g} %, {dip.duration_s:.0f} s): shorter than the "
-        f"{c.min_duration_s:g} s listing minimum, so not an episode."
+        f" (lowest {dip.min_spo2_pct:g} %, {dip.duration_s:.0f} s): {why}."
     )

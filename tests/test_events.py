@@ -265,3 +265,28 @@ def test_outcome_key_is_read_and_checked():
     assert "\n" not in msg
     with pytest.raises(SessionError, match="must be a list"):
         parse_session_yaml(_doc(outcome="death"), "S/session.yaml")
+
+
+def test_deep_run_after_a_gap_is_listed_not_graded():
+    # A probe put back on after a 40 s gap reads 1 % for 6 s (seen on real recordings, where
+    # rule 1 of the oximetry cleaning only takes <= 0 %): its fall was not recorded, so it is
+    # a listed brief dip, not a sentinel event (choice of this tool, stated in dips.py).
+    def spo2(t):
+        return np.where((t >= 400) & (t < 406), 1.0, 97.0)
+
+    starts = np.arange(0.0, 900.0, 4.0)
+    t = np.arange(0.0, 900.0, 1.0)
+    keep = (t < 360) | (t >= 400)  # SpO2 gap of 40 s (> spo2_gap_s, 10 s) before the run
+    t = t[keep]
+    v = spo2(t)
+    z = np.empty(0)
+    trends = Trends(z, z, z, z, z, t, v, np.full(t.size, np.nan), np.zeros(t.size, bool), 60.0)
+    session = Session(
+        "EV-2", datetime(2026, 3, 14, 9, 0, tzinfo=UTC),
+        spo2=OximetryTrend(t, v, np.full(t.size, np.nan), 1.0),
+    )  # fmt: skip
+    baseline = Baseline(38.0, 15.0, 0.03, 0.2, (0.0, 120.0), "planted", 30)
+    episodes, events = detect_events(session, breaths_at(starts), trends, baseline, CRIT)
+    assert [e.kind for e in episodes] == ["signal_loss"] and events == ()
+    (d,) = brief_dips(trends, CRIT)
+    assert (d.start_s, d.min_spo2_pct, d.observed) == (400.0, 1.0, False)

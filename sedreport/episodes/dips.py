@@ -8,6 +8,12 @@ episode here. A shorter dip that stays at or above that level is listed as a bri
 record and the JSON, not as an episode (choice of this tool: the listing minimum guards against
 oximeter noise). Runs are taken on the artefact-cleaned trend, from the first sample below the
 threshold to the first sample back at or above it (DESIGN.md).
+
+A dip is a fall and a recovery that were both seen: a short run that starts at the first sample
+after a gap (by the criteria's ``signal_loss.spo2_gap_s``) or at the first sample of the
+recording, or that has not recovered by the last sample, is listed as a brief dip with that
+said, never made a sentinel episode (on the real oximetry recordings a probe taken off reads
+0-1 % for a few seconds after a gap; choice of this tool).
 """
 
 from __future__ import annotations
@@ -31,10 +37,18 @@ class Dip:
     duration_s: float
     min_spo2_pct: float
     resolved: bool
+    onset_seen: bool = True
+
+    @property
+    def observed(self) -> bool:
+        """Both the fall (a usable sample above the threshold just before, no gap between) and
+        the recovery were recorded."""
+        return self.onset_seen and self.resolved
 
 
-def spo2_runs(trends: Trends, below_pct: float) -> tuple[Dip, ...]:
-    """Every run of usable SpO2 samples below ``below_pct``, whatever its length.
+def spo2_runs(trends: Trends, below_pct: float, gap_s: float = np.inf) -> tuple[Dip, ...]:
+    """Every run of usable SpO2 samples below ``below_pct``, whatever its length; its onset is
+    seen when a usable sample precedes it by at most ``gap_s`` seconds.
 
     Examples
     --------
@@ -58,17 +72,19 @@ def spo2_runs(trends: Trends, below_pct: float) -> tuple[Dip, ...]:
         resolved = bool(b < t.size)
         end = float(t[b]) if resolved else float(t[-1])
         low = float(v[a:b].min())
-        out.append(Dip(float(t[a]), end, end - float(t[a]), low, resolved))
+        seen = bool(a > 0 and t[a] - t[a - 1] <= gap_s)
+        out.append(Dip(float(t[a]), end, end - float(t[a]), low, resolved, seen))
     return tuple(out)
 
 
 def _short(trends: Trends, criteria: Criteria) -> tuple[Dip, ...]:
     c = criteria.desaturation
-    return tuple(d for d in spo2_runs(trends, c.spo2_below_pct) if d.duration_s < c.min_duration_s)
+    runs = spo2_runs(trends, c.spo2_below_pct, criteria.signal_loss.spo2_gap_s)
+    return tuple(d for d in runs if d.duration_s < c.min_duration_s)
 
 
 def deep_dip_findings(trends: Trends, criteria: Criteria) -> list[Finding]:
-    """Desaturation findings for dips shorter than the listing minimum that go below
+    """Desaturation findings for observed dips shorter than the listing minimum that go below
     ``desaturation.severe_below_pct`` (the complement of the desaturation detector)."""
     c = criteria.desaturation
     note = (
@@ -78,12 +94,12 @@ def deep_dip_findings(trends: Trends, criteria: Criteria) -> list[Finding]:
     return [
         Finding("desaturation", None, d.start_s, d.end_s, (note,), d.resolved)
         for d in _short(trends, criteria)
-        if d.min_spo2_pct < c.severe_below_pct
+        if d.min_spo2_pct < c.severe_below_pct and d.observed
     ]
 
 
 def brief_dips(trends: Trends, criteria: Criteria) -> tuple[Dip, ...]:
-    """Dips shorter than the listing minimum that stay at or above the severe level: listed
-    in the record and the JSON, not episodes."""
+    """Dips shorter than the listing minimum that stay at or above the severe level, or whose
+    fall or recovery was not recorded: listed in the record and the JSON, not episodes."""
     severe = criteria.desaturation.severe_below_pct
-    return tuple(d for d in _short(trends, criteria) if d.min_spo2_pct >= severe)
+    return tuple(d for d in _short(trends, criteria) if d.min_spo2_pct >= severe or not d.observed)

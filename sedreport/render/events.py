@@ -93,12 +93,13 @@ def dip_flowables(analysis: Analysis) -> list:
     lines = [
         f"{clock_text(analysis.session, d.start_s)}: lowest {number_text(d.min_spo2_pct, 0, '%')}"
         f" for {duration_text(d.duration_s)}"
+        + ("" if d.observed else " (fall or recovery not recorded)")
         for d in analysis.brief_dips
     ]
     text = (
-        f"Brief SpO2 dips below {c.spo2_below_pct:g} % (shorter than the "
-        f"{c.min_duration_s:g} s listing minimum, not below {c.severe_below_pct:g} %; not "
-        "episodes): " + "; ".join(lines) + "."
+        f"Brief SpO2 dips below {c.spo2_below_pct:g} %, listed, not episodes (shorter than the "
+        f"{c.min_duration_s:g} s listing minimum and not below {c.severe_below_pct:g} %, or "
+        "not seen to fall and recover): " + "; ".join(lines) + "."
     )
     return [Paragraph(para_text(text), styles.SMALL)]
 
