@@ -27,7 +27,7 @@ from sedreport.demo.case import (
     Rebreathing,
     Spo2Artefact,
 )
-from sedreport.demo.cohort_events import draw_event_extras
+from sedreport.demo.cohort_events import draw_event_extras, unattended
 from sedreport.demo.examples import case_rng, simulate_and_write
 from sedreport.demo.oximetry import OxygenParams
 from sedreport.demo.pharmacology import peak_effect_s
@@ -229,7 +229,7 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
     dips, dip_events, outcome = draw_event_extras(
         extra_rng, recipe, planted, t0 + 60.0, duration - 120.0
     )
-    planted, events = [*planted, *dips], [*events, *dip_events]
+    planted, events = [*planted, *dips], [*unattended(extra_rng, recipe, events), *dip_events]
     oxy = OxygenParams(
         aa_gradient_mmHg=rng.uniform(30, 40) if copd else rng.uniform(8, 15),
         apnoea_drop_mmHg_s=override.get("apnoea_drop_mmHg_s", rng.uniform(0.8, 1.1)),

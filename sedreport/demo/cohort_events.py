@@ -2,7 +2,9 @@
 
 Drawn from a generator of their own (seed, case number), so the rest of a cohort case is the
 same as before these were added. Probabilities come from the recipe's optional keys
-``brief_deep_dip`` (per case) and ``outcome`` (word -> per-case probability); invented values.
+``brief_deep_dip`` (per case), ``outcome`` (word -> per-case probability) and
+``hypoventilation_unattended`` (the stimuli that end a planted hypoventilation are left out, so
+it stays a minimal adverse event: subclinical respiratory depression); invented values.
 """
 
 from __future__ import annotations
@@ -46,3 +48,11 @@ def draw_event_extras(
         word for word, p in recipe.get("outcome", {}).items() if rng.random() < float(p)
     )
     return add, events, outcome
+
+
+def unattended(rng: np.random.Generator, recipe: dict, events: list) -> list:
+    """The case's ``events.csv`` rows without the stimuli of a hypoventilation, with the
+    recipe's ``hypoventilation_unattended`` probability (cohort stimuli only end those)."""
+    if rng.random() >= float(recipe.get("hypoventilation_unattended", 0.0)):
+        return events
+    return [e for e in events if e[1] not in ("verbal_stimulus", "physical_stimulus")]
