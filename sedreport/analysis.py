@@ -17,8 +17,9 @@ import numpy as np
 from sedreport.capnography import compute_trends, estimate_baseline, find_breaths
 from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import Criteria, resolve_criteria
-from sedreport.episodes.detect import detect_episodes
-from sedreport.episodes.model import Episode
+from sedreport.episodes.detect import detect_events
+from sedreport.episodes.dips import Dip, brief_dips
+from sedreport.episodes.model import AdverseEvent, Episode
 from sedreport.episodes.summary import Quality, Summary, summarise_quality, summarise_session
 from sedreport.oximetry import clean_oximetry
 from sedreport.session import Session
@@ -42,6 +43,11 @@ class Analysis:
     baseline : Baseline
     episodes : tuple of Episode
         In order of onset, ids ``E1``...
+    events : tuple of AdverseEvent
+        Adverse events after the World SIVA tool, ids ``A1``... (linked episodes graded once).
+    brief_dips : tuple of Dip
+        SpO2 dips below the threshold shorter than the listing minimum and not below the
+        severe level: listed, not episodes.
     summary : Summary
         Key figures over the sedation window and the attention sentences.
     quality : Quality
@@ -57,6 +63,8 @@ class Analysis:
     episodes: tuple[Episode, ...]
     summary: Summary
     quality: Quality
+    events: tuple[AdverseEvent, ...] = ()
+    brief_dips: tuple[Dip, ...] = ()
 
 
 def empty_breaths() -> BreathTable:
@@ -108,7 +116,25 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
         compute_trends(session, breaths, rr_window_s=RR_WINDOW_S, gap_s=gap_s), session, crit
     )
     baseline = estimate_baseline(session, breaths, window_s=BASELINE_WINDOW_S, gap_s=gap_s)
-    episodes = detect_episodes(session, breaths, trends, baseline, crit)
+    episodes, events = detect_events(session, breaths, trends, baseline, crit)
+    dips = brief_dips(trends, crit)
     quality = summarise_quality(session, breaths, trends, baseline, crit)
-    summary = summarise_session(session, breaths, trends, episodes, crit, quality)
-    return Analysis(session, crit, breaths, trends, baseline, episodes, summary, quality)
+    notes = tuple(_dip_line(session, d, crit) for d in dips)
+    summary = summarise_session(session, breaths, trends, episodes, crit, quality, events, notes)
+    return Analysis(
+        session, crit, breaths, trends, baseline, episodes, summary, quality, events, dips
+    )
+
+
+def _dip_line(session: Session, dip: Dip, criteria: Criteria) -> str:
+    """The attention sentence of a brief SpO2 dip (listed, never dropped silently)."""
+    c = criteria.desaturation
+    why = (
+        "its fall or recovery was not recorded (a gap or the recording's edge), so it is not graded"
+        if not dip.observed
+        else f"shorter than the {c.min_duration_s:g} s listing minimum, so not an episode"
+    )
+    return (
+        f"Brief SpO2 dip below {c.spo2_below_pct:g} % at {session.clock_time(dip.start_s):%H:%M:%S}"
+        f" (lowest {dip.min_spo2_pct:g} %, {dip.duration_s:.0f} s): {why}."
+    )

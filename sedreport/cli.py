@@ -183,8 +183,8 @@ def check_command(sessions: tuple[str, ...], fmt: str, criteria_path: str | None
 def record_command(
     session: str, output: str, criteria_path: str | None, paper: str, json_path: str | None
 ) -> None:
-    """Write the PDF sedation record of SESSION: header, summary, doses, trend strips,
-    episodes with close-ups, data quality, cautions, sign-off lines and input hashes.
+    """Write the PDF sedation record of SESSION: header, summary, adverse events, episodes,
+    doses, trend strips, close-ups, data quality, cautions, sign-off lines and input hashes.
 
     The record documents and reviews recorded data; it is not an alarm or a diagnosis and
     does not replace watching the patient. Local sedation policy and licensed practice decide.
@@ -263,7 +263,8 @@ def breaths_command(session: str, fmt: str, criteria_path: str | None) -> None:
 @criteria_option
 def episodes_command(session: str, fmt: str, criteria_path: str | None) -> None:
     """List the respiratory episodes of SESSION found by published criteria, with linked
-    doses, interventions and a severity tier.
+    doses and interventions, and the adverse events they make, each graded once after the
+    World SIVA tool (minimal, minor, moderate, sentinel).
 
     This documents and reviews recorded data; it is not an alarm or a diagnosis. Clinical
     observation comes first; local sedation policy and licensed practice decide.

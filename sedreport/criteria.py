@@ -122,7 +122,7 @@ class RebreathingCriteria:
 
 
 @dataclass(frozen=True)
-class ObstructionCriteria:
+class SlopedPlateauCriteria:
     """Waveform shape relative to the patient's own baseline, sustained."""
 
     slope_ratio: float
@@ -184,6 +184,14 @@ class LinkingCriteria:
     dose_lookback_s: float
     intervention_after_s: float
     lead_window_s: float
+    intervention_before_s: float
+
+
+@dataclass(frozen=True)
+class EventCriteria:
+    """How episodes are joined into one adverse event (World SIVA grading, Mason 2012)."""
+
+    link_window_s: float
 
 
 _SECTIONS: dict[str, type] = {
@@ -192,12 +200,13 @@ _SECTIONS: dict[str, type] = {
     "desaturation": DesaturationCriteria,
     "oximetry": OximetryCriteria,
     "rebreathing": RebreathingCriteria,
-    "obstruction": ObstructionCriteria,
+    "sloped_plateau": SlopedPlateauCriteria,
     "etco2_fall": Etco2FallCriteria,
     "low_amplitude": LowAmplitudeCriteria,
     "co2_signal": Co2SignalCriteria,
     "signal_loss": SignalLossCriteria,
     "linking": LinkingCriteria,
+    "events": EventCriteria,
 }
 
 # Units and plausible ranges; a value outside is an error, not a clamp.
@@ -246,7 +255,7 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "min_duration_s": _Spec("s", 0, 900),
         "max_interruption_s": _Spec("s", 0, 120),
     },
-    "obstruction": {
+    "sloped_plateau": {
         "slope_ratio": _Spec("ratio", 1.1, 50),
         "slope_floor_per_s": _Spec("1/s", 0, 1),
         "upstroke_ratio": _Spec("ratio", 1.1, 50),
@@ -283,7 +292,9 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "dose_lookback_s": _Spec("s", 0, 7200),
         "intervention_after_s": _Spec("s", 0, 1800),
         "lead_window_s": _Spec("s", 0, 1800),
+        "intervention_before_s": _Spec("s", 0, 600),
     },
+    "events": {"link_window_s": _Spec("s", 0, 1800)},
 }
 
 # (smaller key, larger key, what the relation means)
@@ -315,7 +326,7 @@ class Criteria:
         Identity of the file (``sha256`` of its bytes).
     items : tuple of Criterion
         Every threshold with unit, source and note, in file order.
-    apnoea, hypoventilation, desaturation, oximetry, rebreathing, obstruction, etco2_fall,
+    apnoea, hypoventilation, desaturation, oximetry, rebreathing, sloped_plateau, etco2_fall,
     low_amplitude, co2_signal, signal_loss, linking
         Typed sections: ``criteria.apnoea.min_duration_s`` and so on.
     """
@@ -330,12 +341,13 @@ class Criteria:
     desaturation: DesaturationCriteria
     oximetry: OximetryCriteria
     rebreathing: RebreathingCriteria
-    obstruction: ObstructionCriteria
+    sloped_plateau: SlopedPlateauCriteria
     etco2_fall: Etco2FallCriteria
     low_amplitude: LowAmplitudeCriteria
     co2_signal: Co2SignalCriteria
     signal_loss: SignalLossCriteria
     linking: LinkingCriteria
+    events: EventCriteria
 
     def item(self, key: str) -> Criterion:
         """The :class:`Criterion` of a dotted key such as ``"apnoea.min_duration_s"``."""

@@ -29,6 +29,16 @@ INTERVENTION_EVENTS: tuple[str, ...] = (
 #: Non-intervention events of the vocabulary.
 MARKER_EVENTS: tuple[str, ...] = ("procedure_start", "procedure_end", "depth_score", "note")
 KNOWN_EVENTS: tuple[str, ...] = MARKER_EVENTS + INTERVENTION_EVENTS
+#: Words of the optional ``outcome:`` list of ``session.yaml`` (the outcomes of the World SIVA
+#: adverse sedation event tool, Mason et al., Br J Anaesth 2012, as reproduced in Trials 2022
+#: Table 4; ``aspiration`` stands for its pulmonary aspiration syndrome).
+OUTCOMES: tuple[str, ...] = (
+    "unplanned_admission",
+    "escalation_of_care",
+    "aspiration",
+    "permanent_neurological_deficit",
+    "death",
+)
 
 
 @dataclass(frozen=True)
@@ -272,6 +282,7 @@ class Session:
     warnings: tuple[str, ...] = ()
     #: Blood gas taken at the visit (``session.yaml`` ``blood_gas``), if any.
     blood_gas: BloodGas | None = None
+    outcome: tuple[str, ...] = ()
 
     # ----- derived views -------------------------------------------------------------------
     @property

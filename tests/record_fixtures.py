@@ -19,7 +19,13 @@ import numpy as np
 from sedreport.analysis import Analysis
 from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import Criteria, load_criteria
-from sedreport.episodes.model import Episode, LinkedDose, LinkedIntervention
+from sedreport.episodes.model import (
+    AdverseEvent,
+    Descriptor,
+    Episode,
+    LinkedDose,
+    LinkedIntervention,
+)
 from sedreport.episodes.summary import CriteriaRef, Quality, Summary
 from sedreport.session import (
     Capnogram,
@@ -157,6 +163,7 @@ def episodes(apnoea_start: float, apnoea_end: float) -> tuple[Episode, ...]:
         1215.0 - apnoea_start,
         apnoea_end - apnoea_start,
         first_below_90 - apnoea_start,
+        "A1",
     )
     e2 = Episode(
         "E2",
@@ -176,6 +183,7 @@ def episodes(apnoea_start: float, apnoea_end: float) -> tuple[Episode, ...]:
         None,
         1294.0 - first_below_90,
         None,
+        "A1",
     )
     e3 = Episode(
         "E3",
@@ -185,7 +193,7 @@ def episodes(apnoea_start: float, apnoea_end: float) -> tuple[Episode, ...]:
         SLOW[1],
         SLOW[1] - SLOW[0],
         STARTED.isoformat(),
-        "none",
+        "minimal",
         55.0,
         None,
         6.0,
@@ -195,6 +203,7 @@ def episodes(apnoea_start: float, apnoea_end: float) -> tuple[Episode, ...]:
         None,
         300.0,
         None,
+        "A2",
     )
     return tuple(
         replace(e, start_time=(STARTED + timedelta(seconds=e.start_s)).isoformat())
@@ -307,7 +316,7 @@ def make_analysis(
         co2_coverage_pct=99.8,
         spo2_coverage_pct=100.0,
         episodes_by_kind={"apnoea": 1, "desaturation": 1, "hypoventilation": 1},
-        episodes_by_severity={"none": 1, "minor": 2},
+        episodes_by_severity={"none": 0, "minimal": 1, "minor": 2},
         longest_apnoea_s=APNOEA[1] - pause_start,
         min_spo2_pct=86.0,
         spo2_threshold_pct=90.0,
@@ -320,6 +329,7 @@ def make_analysis(
             f"Apnoea of {APNOEA[1] - pause_start:.0f} s at 09:32 needed airway repositioning.",
             "SpO2 fell to 86 % (41 s below 90 %) after the apnoea.",
         ),
+        events_by_severity={"minimal": 1, "minor": 1, "moderate": 0, "sentinel": 0},
     )
     baseline = Baseline(
         38.0,
@@ -344,7 +354,40 @@ def make_analysis(
         baseline=baseline,
         limitations=(),
     )
-    return Analysis(session, crit, breaths, trends, baseline, eps, summary, quality)
+    return Analysis(
+        session, crit, breaths, trends, baseline, eps, summary, quality, fixture_events(eps)
+    )
+
+
+def fixture_events(eps: tuple[Episode, ...]) -> tuple[AdverseEvent, ...]:
+    """A1 = E1 apnoea + E2 desaturation (minor), A2 = E3 hypoventilation (minimal)."""
+    e1, e2, e3 = eps
+
+    def ev(i, members, tier, descriptors, acts):
+        return AdverseEvent(
+            f"A{i}", tuple(m.id for m in members), members[0].start_s, members[-1].end_s,
+            members[0].start_time, tier, descriptors, acts, (), members[0].capnographic_lead_s,
+            (f"Graded {tier}.",),
+        )  # fmt: skip
+
+    a1 = ev(
+        1,
+        (e1, e2),
+        "minor",
+        (
+            Descriptor("apnoea, not prolonged", "minor", "E1"),
+            Descriptor("oxygen desaturation 75-90 % for <= 60 s", "minor", "E2"),
+        ),
+        e1.interventions + e2.interventions,
+    )
+    a2 = ev(
+        2,
+        (e3,),
+        "minimal",
+        (Descriptor("subclinical respiratory depression", "minimal", "E3"),),
+        (),
+    )
+    return (a1, a2)
 
 
 def make_co2_only(duration_s: float = 1200.0, fs_hz: float = 25.0, seed: int = 7) -> Analysis:
@@ -380,7 +423,7 @@ def make_co2_only(duration_s: float = 1200.0, fs_hz: float = 25.0, seed: int = 7
         longest_apnoea_s=None,
         attention=(),
     )
-    return replace(full, session=session, trends=trends, episodes=(), summary=summary)
+    return replace(full, session=session, trends=trends, episodes=(), summary=summary, events=())
 
 
 def with_many_episodes(analysis: Analysis, n: int, spacing_s: float = 20.0) -> Analysis:
@@ -398,7 +441,7 @@ def with_many_episodes(analysis: Analysis, n: int, spacing_s: float = 20.0) -> A
                 start + 3.0,
                 3.0,
                 (STARTED + timedelta(seconds=start)).isoformat(),
-                "none",
+                None,
                 None,
                 None,
                 None,

@@ -36,7 +36,14 @@ def table_cells(
     with pdfplumber.open(path) as pdf:
         page = pdf.pages[page_no]
         words = page.extract_words()
-        head_top = next(w["top"] for w in words if w["text"] == headers[0])
+        # the heading line: the first headers[0] with headers[1] beside it (the record has
+        # more than one table whose heading starts with "ID")
+        head_top = next(
+            w["top"]
+            for w in words
+            if w["text"] == headers[0]
+            and any(v["text"] == headers[1] and abs(v["top"] - w["top"]) < 3 for v in words)
+        )
         lefts = []
         for h in headers:
             cand = [w for w in words if w["text"] == h and abs(w["top"] - head_top) < 3]

@@ -109,7 +109,7 @@ def test_mouth_breathing_gives_breaths_and_a_low_amplitude_finding():
     (low,) = of_kind(a, "low_amplitude")
     assert low.start_s == pytest.approx(starts[mouth][0], abs=0.2)
     assert low.end_s == pytest.approx(starts[mouth][-1] + END_S, abs=0.2)
-    assert low.severity == "none"
+    assert low.severity is None
     for k in ("apnoea", "hypoventilation", "etco2_fall", "obstruction"):
         assert k not in kinds(a), k
     assert a.summary.co2_low_amplitude_pct == pytest.approx(
@@ -180,7 +180,7 @@ def test_fifteen_minute_flat_line_is_an_absent_signal_not_an_apnoea():
     assert absent.subtype == "too_long"
     assert (absent.start_s, absent.end_s) == (pytest.approx(a, abs=0.1), pytest.approx(b, abs=0.1))
     assert "disconnected or displaced line, or apnoea" in absent.notes[0]
-    assert absent.severity == "none"
+    assert absent.severity is None
     assert ana.summary.longest_apnoea_s == 0.0
 
 
@@ -238,7 +238,7 @@ def test_etco2_fall_by_the_change_criterion_is_a_finding():
     qualifying = starts[et <= 28.0]
     assert fall.start_s == pytest.approx(qualifying[0], abs=0.2)
     assert fall.end_s == pytest.approx(qualifying[-1] + END_S, abs=0.2)
-    assert fall.severity == "none"
+    assert fall.severity is None
     assert "low_amplitude" not in kinds(a) and "hypoventilation" not in kinds(a)
 
 

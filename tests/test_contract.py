@@ -41,18 +41,25 @@ CRITERIA_DIR = REPO / "sedreport" / "templates" / "criteria"
 SHIPPED_CRITERIA = sorted(p.name for p in CRITERIA_DIR.glob("*.yaml"))
 EPOCH = "1700000000"
 #: DESIGN.md contract: the top-level keys and per-episode keys of ``episodes --format json``.
-TOP_KEYS = {"session_id", "started", "criteria", "episodes", "summary", "quality"}
+TOP_KEYS = {
+    "session_id", "started", "criteria", "episodes", "events", "brief_dips", "summary", "quality",
+}  # fmt: skip
+EVENT_KEYS = {
+    "id", "episodes", "start_s", "end_s", "start_time", "severity", "descriptors",
+    "interventions", "outcome",
+}  # fmt: skip
+TIERS = ("minimal", "minor", "moderate", "sentinel")
 EPISODE_KEYS = {
     "id", "kind", "start_s", "end_s", "duration_s", "start_time", "severity",
     "peak_etco2_mmHg", "min_spo2_pct", "min_rr_per_min", "preceding_doses",
-    "interventions", "notes",
+    "interventions", "notes", "event",
 }  # fmt: skip
 KINDS = {
     "apnoea",
     "hypoventilation",
     "desaturation",
     "rebreathing",
-    "obstruction",
+    "sloped_plateau",
     "signal_loss",
     "low_amplitude",
     "etco2_fall",
@@ -80,7 +87,7 @@ BREATH_RUNS = ["upper_gi_apnoea", "desaturation_bag_mask", "gap_and_probe_artefa
 EDGE_RUNS = {
     "radiology_opioid_hypoventilation": ("hypoventilation", "start_s", "end_s"),
     "rebreathing_under_drapes": ("rebreathing", "start_s", "start_s"),
-    "copd_obstruction": ("obstruction", "start_s", "end_s"),
+    "copd_sloped_plateau": ("sloped_plateau", "start_s", "end_s"),
 }
 
 
@@ -331,6 +338,24 @@ def test_episodes_json_shape(ws, key):
         assert abs(delta) <= 0.001, f"{e['id']}: start_time off by {delta:.4f} s"
         starts.append(e["start_s"])
     assert starts == sorted(starts), "ids E1.. must follow onset order"
+    _check_events(doc)
+
+
+def _check_events(doc: dict) -> None:
+    """DESIGN.md: events graded once; each episode names its event or null, and its severity
+    equals the event's (null for findings); events_by_severity counts the events."""
+    by_id = {ev["id"]: ev for ev in doc["events"]}
+    for i, ev in enumerate(doc["events"], start=1):
+        assert EVENT_KEYS <= set(ev) and ev["id"] == f"A{i}" and ev["severity"] in TIERS
+        assert all(set(d) >= {"text", "tier"} for d in ev["descriptors"])
+    for e in doc["episodes"]:
+        if e["event"] is None:
+            assert e["severity"] is None
+        else:
+            assert e["id"] in by_id[e["event"]]["episodes"]
+            assert e["severity"] == by_id[e["event"]]["severity"]
+    counts = doc["summary"]["events_by_severity"]
+    assert counts == {t: sum(ev["severity"] == t for ev in doc["events"]) for t in TIERS}
 
 
 @pytest.mark.parametrize("name", CSV_EPISODE_RUNS)
@@ -416,7 +441,7 @@ def test_apnoea_dated_from_breaths(ws, name):
 
 @pytest.mark.parametrize("name", list(EDGE_RUNS))
 def test_breath_dated_episode_edges(ws, name):
-    # DESIGN.md: hypoventilation and obstruction run from the first to the last qualifying
+    # DESIGN.md: hypoventilation and sloped_plateau run from the first to the last qualifying
     # breath (start of the first, end of the last); rebreathing from the first breath followed
     # by a raised inspired baseline to the breath that closes the last one (its start).
     kind, start_col, end_col = EDGE_RUNS[name]

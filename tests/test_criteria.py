@@ -87,10 +87,10 @@ def test_rebreathing_and_windows_are_labelled_common_practice():
     assert DEFAULT.linking.intervention_after_s == 120.0
 
 
-def test_obstruction_sources_and_relative_criterion():
-    c = DEFAULT.item("obstruction.slope_ratio")
+def test_sloped_plateau_sources_and_relative_criterion():
+    c = DEFAULT.item("sloped_plateau.slope_ratio")
     assert "You et al." in c.source and "Hisamuddin" in c.source and "choice" in c.source
-    assert DEFAULT.obstruction.slope_ratio > 1.0  # relative to the patient's own baseline
+    assert DEFAULT.sloped_plateau.slope_ratio > 1.0  # relative to the patient's own baseline
 
 
 def test_every_shipped_file_loads_and_every_item_has_a_source():

@@ -74,7 +74,7 @@ def test_cohort_truth_is_clear_cut():
     for kind in recipe["events"]:
         recipe["events"][kind] = {k: 0.5 for k in recipe["events"][kind]}
     recipe["desaturation_given_apnoea"] = 0.5
-    recipe["obstruction_given_copd"] = 1.0
+    recipe["sloped_plateau_given_copd"] = 1.0
     recipe["conditions"]["copd"] = 0.4
     kinds = collections.Counter()
     for i in range(60):
@@ -100,7 +100,7 @@ def test_cohort_truth_is_clear_cut():
             "desaturation",
             "hypoventilation",
             "rebreathing",
-            "obstruction",
+            "sloped_plateau",
             "signal_loss",
         )
     ), kinds

@@ -25,7 +25,7 @@ EPISODE_KINDS = {
     "hypoventilation",
     "desaturation",
     "rebreathing",
-    "obstruction",
+    "sloped_plateau",
     "signal_loss",
     "low_amplitude",
     "etco2_fall",
@@ -95,6 +95,8 @@ def test_truth_format_and_time_order(runs):
             "seed",
             "breaths",
             "episodes",
+            "events",
+            "outcome",
             "gaps",
             "artefacts",
         ]
@@ -114,15 +116,40 @@ def test_planted_episodes_per_scenario(runs):
         "quiet_colonoscopy": [],
         "upper_gi_apnoea": ["apnoea"],
         "radiology_opioid_hypoventilation": ["hypoventilation"],
-        "copd_obstruction": ["obstruction"],
+        "copd_sloped_plateau": ["sloped_plateau"],
         "rebreathing_under_drapes": ["rebreathing"],
         "gap_and_probe_artefact": ["signal_loss", "low_amplitude"],
         "desaturation_bag_mask": ["apnoea", "desaturation"],
         "bite_block_mouth_breathing": ["low_amplitude", "apnoea", "low_amplitude"],
         "line_off_etco2_fall": ["co2_signal_absent", "etco2_fall"],
+        "brief_deep_desaturation": ["apnoea", "desaturation"],
+        "outcome_unplanned_admission": ["desaturation"],
     }
     for name, kinds in expected.items():
         assert [e["kind"] for e in runs[name][2]["episodes"]] == kinds, name
+
+
+def test_truth_events_graded_after_world_siva(runs):
+    """Truth events from the planted episodes, graded after Mason et al., Br J Anaesth 2012
+    (as reproduced in Trials 2022 Table 4): highest of descriptor, intervention, outcome."""
+    got = {
+        name: [(e["episodes"], e["severity"], e["outcome"]) for e in truth["events"]]
+        for name, (_, _, truth) in runs.items()
+    }
+    assert got["quiet_colonoscopy"] == [] and got["gap_and_probe_artefact"] == []
+    # apnoea > 60 s (sentinel) -> desaturation -> bag-mask ventilation (moderate): one event
+    assert got["desaturation_bag_mask"] == [([0, 1], "sentinel", [])]
+    # SpO2 down to 72 % (< 75 % at any time: sentinel) for under 30 s, after a short apnoea
+    assert got["brief_deep_desaturation"] == [([0, 1], "sentinel", [])]
+    # desaturation 85 % (minor) + suction, oxygen (minor) + unplanned admission (moderate)
+    assert got["outcome_unplanned_admission"] == [([0], "moderate", ["unplanned_admission"])]
+    # sloped plateau and rebreathing are findings; an intervention linked makes them events
+    assert got["copd_sloped_plateau"] == [([0], "minor", [])]
+    spec, sig, truth = runs["brief_deep_desaturation"]
+    (desat,) = [e for e in truth["episodes"] if e["kind"] == "desaturation"]
+    assert desat["end_s"] - desat["start_s"] < 30.0
+    inside = (sig.spo2_time_s >= desat["start_s"]) & (sig.spo2_time_s < desat["end_s"])
+    assert sig.spo2_pct[inside].min() == 72.0
 
 
 def test_apnoea_dated_from_breaths_and_clear_cut(runs):
@@ -192,11 +219,11 @@ def _slopes(sig, truth, sel):
     return np.array(out)
 
 
-def test_obstruction_is_several_times_own_baseline_slope(runs):
-    # Obstruction is judged against the patient's own baseline shape (DESIGN.md): the COPD
+def test_sloped_plateau_is_several_times_own_baseline_slope(runs):
+    # A sloped plateau is judged against the patient's own baseline shape (DESIGN.md): the COPD
     # baseline plateau is already sloped, the obstructive stretch is several times steeper.
-    spec, sig, truth = runs["copd_obstruction"]
-    ((a, z),) = _windows(truth, "obstruction")
+    spec, sig, truth = runs["copd_sloped_plateau"]
+    ((a, z),) = _windows(truth, "sloped_plateau")
     st = np.array(truth["breaths"]["start_s"])
     base = np.median(_slopes(sig, truth, st < spec.first_dose_s))
     stretch = np.median(_slopes(sig, truth, (st >= a) & (st < z)))
@@ -257,7 +284,9 @@ def _file_times(folder, name, started):
     return secs, values
 
 
-@pytest.mark.parametrize("name", ["upper_gi_apnoea", "copd_obstruction", "gap_and_probe_artefact"])
+@pytest.mark.parametrize(
+    "name", ["upper_gi_apnoea", "copd_sloped_plateau", "gap_and_probe_artefact"]
+)
 def test_clock_offset_sign_and_breath_times_in_file(tmp_path, name):
     # DESIGN.md: clock_offset_s is ADDED to file times to get session times, so a monitor
     # running 4 s fast writes session + 4 s and declares clock_offset_s: -4.

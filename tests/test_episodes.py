@@ -19,8 +19,8 @@ from sedreport.episodes import (
     detect_apnoea,
     detect_desaturation,
     detect_hypoventilation,
-    detect_obstruction,
     detect_rebreathing,
+    detect_sloped_plateau,
 )
 from sedreport.episodes._intervals import breath_runs, touches_gap
 
@@ -290,7 +290,7 @@ def test_desaturation_unresolved_at_end():
     assert found[-1].start_s == 300.0 and found[-1].end_s == 399.0 and not found[-1].resolved
 
 
-# ----- rebreathing and obstruction --------------------------------------------------------------
+# ----- rebreathing and sloped plateau --------------------------------------------------------------
 def test_rebreathing_ends_at_the_breath_closing_the_last_raised_inspiration():
     starts = regular(0, 400, 4.0)
     fi = np.where((starts >= 100) & (starts < 200), 7.0, 1.0)
@@ -300,43 +300,45 @@ def test_rebreathing_ends_at_the_breath_closing_the_last_raised_inspiration():
     assert detect_rebreathing(make_breaths(starts, fico2=short), *NO_GAPS, CRIT) == []
 
 
-def test_obstruction_needs_steeper_plateau_and_slower_upstroke():
+def test_sloped_plateau_needs_steeper_plateau_and_slower_upstroke():
     """Shark-fin shape: both indices up against the patient's own baseline (DESIGN.md)."""
     starts = regular(0, 400, 4.0)
     inside = (starts >= 100) & (starts < 180)
     slope = np.where(inside, 0.075, 0.03)  # 2.5x baseline slope
     up = np.where(inside, 0.4, 0.2)  # 2x baseline upstroke
     b = make_breaths(starts, slope_norm=slope, upstroke=up)
-    found = detect_obstruction(b, make_baseline(slope_norm=0.03), *NO_GAPS, CRIT)
+    found = detect_sloped_plateau(b, make_baseline(slope_norm=0.03), *NO_GAPS, CRIT)
     # the centred running median keeps step edges: first 100 s, last breath starts 176 s
     assert [(f.start_s, f.end_s) for f in found] == [(100.0, 176.0 + 2.4)]
     # 1.5x the baseline slope is below the default slope_ratio of 2 (criteria file)
     mild = make_breaths(starts, slope_norm=np.where(inside, 0.045, 0.03), upstroke=up)
-    assert detect_obstruction(mild, make_baseline(slope_norm=0.03), *NO_GAPS, CRIT) == []
+    assert detect_sloped_plateau(mild, make_baseline(slope_norm=0.03), *NO_GAPS, CRIT) == []
     short = np.where((starts >= 100) & (starts < 156), 0.4, 0.2)  # spans 58.4 s < 60 s
     b_short = make_breaths(starts, slope_norm=slope * (starts < 156), upstroke=short)
-    assert detect_obstruction(b_short, make_baseline(), *NO_GAPS, CRIT) == []
+    assert detect_sloped_plateau(b_short, make_baseline(), *NO_GAPS, CRIT) == []
     slope_only = make_breaths(starts, slope_norm=slope)
-    assert detect_obstruction(slope_only, make_baseline(), *NO_GAPS, CRIT) == []
+    assert detect_sloped_plateau(slope_only, make_baseline(), *NO_GAPS, CRIT) == []
     up_only = make_breaths(starts, upstroke=up)
-    assert detect_obstruction(up_only, make_baseline(), *NO_GAPS, CRIT) == []
+    assert detect_sloped_plateau(up_only, make_baseline(), *NO_GAPS, CRIT) == []
 
 
-def test_copd_sloped_plateau_is_not_obstruction():
+def test_copd_own_baseline_slope_is_not_a_sloped_plateau():
     """A steep but stable plateau is the patient's baseline (DESIGN.md), not an episode."""
     starts = regular(0, 400, 4.0)
     b = make_breaths(starts, slope_norm=0.12, upstroke=0.5)
-    assert detect_obstruction(b, make_baseline(slope_norm=0.12, upstroke=0.5), *NO_GAPS, CRIT) == []
+    assert (
+        detect_sloped_plateau(b, make_baseline(slope_norm=0.12, upstroke=0.5), *NO_GAPS, CRIT) == []
+    )
 
 
-def test_isolated_odd_breaths_do_not_make_obstruction():
+def test_isolated_odd_breaths_do_not_make_a_sloped_plateau():
     starts = regular(0, 400, 4.0)
     slope = np.full(starts.size, 0.03)
     up = np.full(starts.size, 0.2)
     slope[::3] = 0.09  # every third breath odd: the 5-breath median stays at baseline
     up[::3] = 0.6
     b = make_breaths(starts, slope_norm=slope, upstroke=up)
-    assert detect_obstruction(b, make_baseline(), *NO_GAPS, CRIT) == []
+    assert detect_sloped_plateau(b, make_baseline(), *NO_GAPS, CRIT) == []
 
 
 def test_running_median_edges_and_nan():
@@ -371,7 +373,7 @@ def test_signal_loss_from_last_sample_before_to_first_after():
     assert found[0].end_s == pytest.approx(130.0, abs=1e-6)
 
 
-def test_obstruction_onset_dated_by_the_breaths_own_values():
+def test_sloped_plateau_onset_dated_by_the_breaths_own_values():
     """The smoothed index finds the run; a noisy second breath must not delay the onset."""
     starts = regular(0, 400, 4.0)
     inside = (starts >= 100) & (starts < 200)
@@ -379,7 +381,7 @@ def test_obstruction_onset_dated_by_the_breaths_own_values():
     slope[(starts == 104) | (starts == 108)] = 0.03  # noisy breaths right after the onset
     up = np.where(inside, 0.4, 0.2)
     b = make_breaths(starts, slope_norm=slope, upstroke=up)
-    found = detect_obstruction(b, make_baseline(), *NO_GAPS, CRIT)
+    found = detect_sloped_plateau(b, make_baseline(), *NO_GAPS, CRIT)
     assert [f.start_s for f in found] == [100.0]
 
 

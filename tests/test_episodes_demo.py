@@ -21,10 +21,11 @@ from click.testing import CliRunner, Result
 from sedreport.analysis import analyse_session
 from sedreport.cli import cli
 from sedreport.criteria import load_criteria
-from sedreport.demo import SCENARIOS, load_truth, write_scenario
+from sedreport.demo import SCENARIOS, load_truth, write_cohort, write_scenario
 from sedreport.episodes import lean_body_weight_kg
 from sedreport.episodes.scoring import match_episodes
 from sedreport.ingest import load_session
+from sedreport.render.events import rr_for_strip
 from sedreport.render.json_text import episodes_to_dict
 from sedreport.session import Capnogram
 
@@ -46,11 +47,14 @@ def demo(tmp_path_factory):
 
 
 def expected(truth: dict) -> list[dict]:
+    """Planted episodes a detector must find: a desaturation shorter than the listing minimum
+    only when it is part of a true adverse event (a dip below 75 %: World SIVA, Mason 2012)."""
     d = CRIT.desaturation.min_duration_s
+    in_event = {i for ev in truth["events"] for i in ev["episodes"]}
     return [
         e
-        for e in truth["episodes"]
-        if not (e["kind"] == "desaturation" and e["end_s"] - e["start_s"] < d)
+        for i, e in enumerate(truth["episodes"])
+        if i in in_event or not (e["kind"] == "desaturation" and e["end_s"] - e["start_s"] < d)
     ]
 
 
@@ -74,8 +78,8 @@ def test_hypoventilation_subtype_matches_planted(demo):
     planted = [e for e in truth["episodes"] if e["kind"] == "hypoventilation"]
     found = [e for e in analysis.episodes if e.kind == "hypoventilation"]
     assert [e.subtype for e in found] == [p["subtype"] for p in planted] == ["bradypnoeic"]
-    # naloxone (a reversal agent) is a moderate-risk intervention (Mason et al., Br J Anaesth
-    # 2012, from memory); the scenario gives it at 1500 s, inside the episode
+    # naloxone (a reversal agent) is a moderate-risk intervention (Mason 2012, as reproduced in
+    # Trials 2022 Table 4); the scenario gives it at 1500 s, inside the episode
     assert found[0].severity == "moderate"
     assert "reversal_agent" in [i.event for i in found[0].interventions]
 
@@ -92,7 +96,8 @@ def test_apnoea_doses_and_interventions_linked(demo):
     lbw = lean_body_weight_kg(82.0, 178.0, "male")
     assert doses["propofol"].cumulative_mg_per_kg_lbw == pytest.approx(50.0 / lbw)
     assert doses["fentanyl"].cumulative_mg == pytest.approx(0.025)
-    # jaw thrust at 333 s is airway repositioning: minor-risk (Mason 2012, from memory)
+    # jaw thrust at 333 s is airway repositioning: minor-risk (Mason 2012, as reproduced in
+    # Trials 2022 Table 4)
     assert [i.event for i in apnoea.interventions] == ["airway_repositioning"]
     assert apnoea.severity == "minor"
 
@@ -101,7 +106,8 @@ def test_prolonged_apnoea_with_bag_mask_is_sentinel(demo):
     _, _, analysis = demo["desaturation_bag_mask"]
     (apnoea,) = [e for e in analysis.episodes if e.kind == "apnoea"]
     assert apnoea.duration_s > CRIT.apnoea.prolonged_s
-    assert apnoea.severity == "sentinel"  # prolonged apnoea > 60 s (Mason 2012, from memory)
+    # prolonged apnoea > 60 s is sentinel (Mason 2012, as reproduced in Trials 2022 Table 4)
+    assert apnoea.severity == "sentinel"
     assert "bag_mask_ventilation" in [i.event for i in apnoea.interventions]
     assert apnoea.capnographic_lead_s is not None and apnoea.capnographic_lead_s > 0
 
@@ -116,7 +122,10 @@ def test_gap_is_signal_loss_never_apnoea(demo):
 def test_json_is_valid_and_has_the_contract_keys(demo):
     _, _, analysis = demo["desaturation_bag_mask"]
     d = json.loads(json.dumps(episodes_to_dict(analysis), allow_nan=False))
-    assert list(d) == ["session_id", "started", "criteria", "episodes", "summary", "quality"]
+    assert list(d) == [
+        "session_id", "started", "criteria", "episodes", "events", "brief_dips", "summary",
+        "quality",
+    ]  # fmt: skip
     assert d["episodes"][0]["id"] == "E1"
     assert d["quality"]["criteria"]["sha256"] == CRIT.sha256
 
@@ -193,3 +202,74 @@ def test_detection_survives_noise_and_low_rate(demo, name, noise_sd_mmHg, target
         want = [{**e, "kind": "apnoea"} if e["kind"] == "co2_signal_absent" else e for e in want]
     score = match_episodes(analysis.episodes, want, ONSET_TOL_S)
     assert score.misses == [] and score.false_positives == []
+
+
+@pytest.mark.parametrize("name", list(SCENARIOS))
+def test_event_tiers_equal_truth(demo, name):
+    """Adverse events found equal the true events (graded from the planted episodes after the
+    World SIVA tool, Mason et al., Br J Anaesth 2012, as reproduced in Trials 2022 Table 4):
+    same number, same episodes' kinds, same tier, same outcome."""
+    _, truth, analysis = demo[name]
+    kinds = [e["kind"] for e in truth["episodes"]]
+    want = [
+        ([kinds[i] for i in ev["episodes"]], ev["severity"], ev["outcome"])
+        for ev in truth["events"]
+    ]
+    by_id = {e.id: e.kind for e in analysis.episodes}
+    got = [
+        ([by_id[i] for i in ev.episodes], ev.severity, [o.text for o in ev.outcome])
+        for ev in analysis.events
+    ]
+    assert got == want
+
+
+def test_cohort_event_tiers_equal_truth(tmp_path):
+    """On an invented cohort of 60 sessions every true adverse event is found with its tier
+    (the issue asks >= 95 %; benchmarks/bench_events.py prints the figures on 1,000)."""
+    folders = write_cohort(tmp_path, 60, seed=0)
+    n_true = n_equal = 0
+    for folder in map(Path, folders):
+        truth = load_truth(folder.parent / f"{folder.name}.truth.json")
+        found = sorted(e.severity for e in analyse_session(load_session(folder)).events)
+        want = sorted(e["severity"] for e in truth["events"])
+        n_true += len(want)
+        n_equal += sum(min(want.count(t), found.count(t)) for t in set(want))
+        assert len(found) == len(want), folder.name
+    assert n_true >= 5 and n_equal / n_true >= 0.95
+
+
+def test_infusion_running_and_doses_during_are_linked(demo):
+    """Scenario desaturation_bag_mask: propofol 75 mcg/kg/min from 240 s for a 118 kg patient
+    is 75e-3 mg/kg/min x 118 kg x 60 min/h = 531 mg/h at the apnoea's onset (about 641 s);
+    the 50 mcg/kg/min line at 700 s is given during the apnoea (641-712 s)."""
+    _, _, analysis = demo["desaturation_bag_mask"]
+    apnoea = next(e for e in analysis.episodes if e.kind == "apnoea")
+    (inf,) = apnoea.infusions_at_onset
+    assert (inf.drug, inf.rate, inf.unit) == ("propofol", 75.0, "mcg/kg/min")
+    assert inf.rate_mg_per_h == pytest.approx(531.0)
+    assert [(d.dose, d.unit) for d in apnoea.doses_during] == [(50.0, "mcg/kg/min")]
+    totals = {t.drug: t for t in apnoea.cumulative_at_onset}
+    # 40 + 20 mg boluses + 531 mg/h for (onset - 240) s
+    want = 60.0 + 531.0 * (apnoea.start_s - 240.0) / 3600.0
+    assert totals["propofol"].cumulative_mg == pytest.approx(want)
+    assert totals["propofol"].cumulative_mg_per_kg == pytest.approx(want / 118.0)
+
+
+def test_attention_lists_every_event_and_every_gap(demo):
+    _, _, gap = demo["gap_and_probe_artefact"]
+    # the planted 75 s CO2 gap at 822 s (11:13:42 clock, session started 11:00:00)
+    assert any(a.startswith("CO2 gap during sedation at 11:13:4") for a in gap.summary.attention)
+    assert gap.events == ()
+    _, _, ugi = demo["upper_gi_apnoea"]
+    (line,) = [a for a in ugi.summary.attention if a.startswith("Adverse event")]
+    assert "A1" in line and "minor" in line  # a minor event is listed too, not only moderate+
+
+
+def test_rr_strip_is_zero_across_apnoea(demo):
+    _, _, analysis = demo["desaturation_bag_mask"]
+    apnoea = next(e for e in analysis.episodes if e.kind == "apnoea")
+    t, rr = rr_for_strip(analysis)
+    inside = (t >= apnoea.start_s) & (t <= apnoea.end_s)
+    assert inside.sum() > 60 and np.all(rr[inside] == 0.0)
+    # the trend itself (trailing 60 s window) is not zero there: the strip shows the pause
+    assert np.nanmax(np.asarray(analysis.trends.rr_per_min)[inside]) > 0

@@ -107,14 +107,14 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
             "Start",
             "Duration",
             "Worst",
-            "Doses",
+            "Drugs",
             "Interventions",
             "Resolved",
             "CO2",
-            "Severity",
+            "Event",
         ],
         ["E1", "E2", "E3"],
-        "Severity",
+        "'Event':",
     )
     onset1 = e1.start_s
     assert cells["E1"] == [
@@ -122,13 +122,14 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         "apnoea",
         clock(onset1),
         f"{round(e1.duration_s)} s",
-        "SpO2 min 88 % RR min 0.0 /min",
+        # an apnoea row says how long there was no breath, not a rate
+        f"no breath for {round(e1.duration_s)} s SpO2 min 88 %",
         f"propofol 20 mg, {(onset1 - 1150) / 60:.1f} min before",
         f"verbal stimulus at +{round(1215 - onset1)} s airway repositioning at "
         f"+{round(1222 - onset1)} s",
         f"{round(e1.duration_s)} s",
         f"{round(1253 - onset1)} s",
-        "minor",
+        "A1 minor",  # E1 and E2 are one adverse event, graded once
     ]
     # E2: the oxygen increase at 1240 s came 13 s before the desaturation onset at 1253 s
     assert cells["E2"] == [
@@ -137,11 +138,11 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         clock(1253),
         "41 s",
         "SpO2 min 86 %",
-        "none in look-back",
+        "no bolus in look-back",
         "oxygen increase (4) 13 s before onset",
         "41 s",
         "-",
-        "minor",
+        "A1 minor",
     ]
     # E3: 300 s = 5 min 00 s; the 20 mg bolus at 1150 s was 650 s = 10.8 min before 1800 s
     assert cells["E3"] == [
@@ -154,7 +155,9 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         "none",
         "5 min 00 s",
         "-",
-        "below minor",  # tier "none": met the criteria, no World SIVA tier (plain wording)
+        # subclinical respiratory depression: minimal (Mason 2012, as reproduced in Trials 2022
+        # Table 4)
+        "A2 minimal",
     ]
 
 

@@ -72,13 +72,16 @@ def test_dose_table_on_the_page(texts):
 
 
 # ----- plain wording -------------------------------------------------------------------------
-def test_severity_none_reads_in_words(texts):
-    """The tier "none" of the World SIVA grading (Mason et al., Br J Anaesth 2012) means the
-    episode reached no tier; the page says so instead of a bare "none"."""
-    assert severity_text("none") == "below minor"
+def test_findings_and_events_read_in_words(texts):
+    """An episode that is not part of an adverse event (World SIVA tool, Mason et al., Br J
+    Anaesth 2012) reads "finding"; the first page lists every adverse event with its tier and
+    the summary counts events, not episodes."""
+    assert severity_text(None) == "finding"
     assert severity_text("sentinel") == "sentinel"
     first = norm(texts[0])
-    assert "below minor" in first and "'below minor' means" in first
+    assert "'finding' means" in first
+    assert "Adverse events 2: minimal 1, minor 1" in first
+    assert "A1" in first and "A2" in first
 
 
 def test_summary_says_why_a_value_is_missing(tmp_path):

@@ -175,6 +175,18 @@ class ProbeOff:
 
 
 @dataclass(frozen=True)
+class Spo2Dip:
+    """A true (not artefact) fall of SpO2 to ``nadir_pct``: a linear fall over ``ramp_s``, a
+    hold, a linear rise over ``ramp_s``, ``duration_s`` in all (e.g. a brief deep dip from a
+    short airway obstruction). The simulated trend is held at or below this profile."""
+
+    start_s: float
+    duration_s: float
+    nadir_pct: float
+    ramp_s: float = 8.0
+
+
+@dataclass(frozen=True)
 class CaseSpec:
     """Everything needed to simulate and write one invented session.
 
@@ -185,6 +197,7 @@ class CaseSpec:
     update every few seconds); ``paced_bpm`` makes the pulse sit on one value (a paced heart);
     ``spo2_startup_s`` / ``spo2_startup_low_pct`` make the first readings of the file read low
     and climb (a probe acquiring). The defaults leave all of that off.
+    ``outcome`` holds the ``session.yaml`` outcome words (empty: no adverse outcome).
     """
 
     session_id: str
@@ -214,6 +227,7 @@ class CaseSpec:
     paced_bpm: float | None = None
     spo2_startup_s: float = 0.0
     spo2_startup_low_pct: float = 0.0
+    outcome: tuple[str, ...] = ()
 
     def planted_of(self, kind: type) -> list:
         """Planted items of one class, in time order."""

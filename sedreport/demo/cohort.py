@@ -28,6 +28,7 @@ from sedreport.demo.case import (
     Rebreathing,
     Spo2Artefact,
 )
+from sedreport.demo.cohort_events import draw_event_extras, unattended
 from sedreport.demo.examples import case_rng, simulate_and_write
 from sedreport.demo.oximetry import OxygenParams
 from sedreport.demo.pharmacology import peak_effect_s
@@ -45,7 +46,7 @@ _REQUIRED = (
     "regimens",
     "events",
     "desaturation_given_apnoea",
-    "obstruction_given_copd",
+    "sloped_plateau_given_copd",
     "asa_multiplier",
 )
 _REGIMENS = ("propofol", "propofol_fentanyl", "propofol_infusion", "midazolam_fentanyl")
@@ -167,7 +168,7 @@ def _plant(
             events.append((round(start + dur - 15.0), "physical_stimulus", None, ""))
     for kind, prob in (
         ("rebreathing", ev["rebreathing"].get(regimen, 0.0)),
-        ("obstruction", recipe["obstruction_given_copd"] if copd else 0.0),
+        ("sloped_plateau", recipe["sloped_plateau_given_copd"] if copd else 0.0),
         ("co2_gap", ev["co2_gap"].get(regimen, 0.0)),
         ("spo2_artefact", ev["spo2_artefact"].get(regimen, 0.0)),
     ):
@@ -175,7 +176,7 @@ def _plant(
             continue
         dur = {
             "rebreathing": (120, 240),
-            "obstruction": (150, 300),
+            "sloped_plateau": (150, 300),
             "co2_gap": (20, 90),
             "spo2_artefact": (15, 40),
         }[kind]
@@ -194,7 +195,7 @@ def _plant(
 def _make(kind: str, start: float, length: float, rng):
     if kind == "rebreathing":
         return Rebreathing(start, length, rng.uniform(7.5, 10.0), 15.0)
-    if kind == "obstruction":
+    if kind == "sloped_plateau":
         return Obstruction(start, length, rng.uniform(4.0, 5.0), 2.5)
     if kind == "co2_gap":
         return Gap("co2", start, length)
@@ -264,6 +265,11 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
     )
     ox_fields, ox_plants = _oximeter(recipe, index, seed, planted, (t0 + 60.0, duration - 120.0))
     copd = "copd" in conds
+    extra_rng = case_rng(seed, f"cohort-{index}-events")
+    dips, dip_events, outcome = draw_event_extras(
+        extra_rng, recipe, planted, t0 + 60.0, duration - 120.0
+    )
+    planted, events = [*planted, *dips], [*unattended(extra_rng, recipe, events), *dip_events]
     oxy = OxygenParams(
         aa_gradient_mmHg=rng.uniform(30, 40) if copd else rng.uniform(8, 15),
         apnoea_drop_mmHg_s=override.get("apnoea_drop_mmHg_s", rng.uniform(0.8, 1.1)),
@@ -314,6 +320,7 @@ def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
         co2_rate_hz=float(rng.choice(recipe["co2_rate_hz"])),
         description=f"Invented cohort case, regimen {regimen}.",
         **ox_fields,
+        outcome=outcome,
     )
 
 

@@ -21,6 +21,7 @@ from sedreport.demo.case import (
     Spo2Artefact,
 )
 from sedreport.demo.oximetry import OxygenParams
+from sedreport.demo.scenarios_events import brief_deep_desaturation, outcome_unplanned_admission
 from sedreport.demo.signal_scenarios import bite_block_gastroscopy, line_off_hyperventilation
 
 #: Depth score note: the MOAA/S scale (Chernik et al., J Clin Psychopharmacol 1990).
@@ -153,10 +154,10 @@ def _radiology_opioid_hypoventilation() -> CaseSpec:
     )
 
 
-def _copd_obstruction() -> CaseSpec:
+def _copd_sloped_plateau() -> CaseSpec:
     return CaseSpec(
         session_id="DEMO-BRONCH-04",
-        scenario="copd_obstruction",
+        scenario="copd_sloped_plateau",
         description="COPD patient with a sloped baseline plateau and a stretch of obstructive "
         "(shark-fin) breaths during bronchoscopy.",
         started="2026-06-17T08:40:00+02:00",
@@ -359,11 +360,13 @@ SCENARIOS: dict[str, CaseSpec] = {
         _quiet_colonoscopy(),
         _upper_gi_apnoea(),
         _radiology_opioid_hypoventilation(),
-        _copd_obstruction(),
+        _copd_sloped_plateau(),
         _rebreathing_under_drapes(),
         _gap_and_probe_artefact(),
         _desaturation_bag_mask(),
         bite_block_gastroscopy(),
         line_off_hyperventilation(),
+        brief_deep_desaturation(),
+        outcome_unplanned_admission(),
     )
 }

@@ -30,6 +30,7 @@ from sedreport.demo.case import (
     Obstruction,
     Rebreathing,
     Spo2Artefact,
+    Spo2Dip,
 )
 from sedreport.demo.monitor import export_like_monitor
 from sedreport.demo.pharmacology import respiratory_effect
@@ -344,6 +345,18 @@ def _apnoeic_seconds(schedule: BreathSchedule, grid_s: np.ndarray) -> np.ndarray
     return mask
 
 
+def _with_dips(grid_s: np.ndarray, spo2: np.ndarray, dips: list) -> np.ndarray:
+    """SpO2 held at or below each planted dip's profile (fall, hold at the nadir, rise)."""
+    out = spo2
+    for d in dips:
+        into = np.minimum(grid_s - d.start_s, d.start_s + d.duration_s - grid_s)
+        inside = into >= 0
+        depth = np.clip(into / d.ramp_s, 0.0, 1.0)
+        profile = np.where(inside, out - depth * (out - d.nadir_pct), out)
+        out = np.minimum(out, profile)
+    return out
+
+
 def _oximetry(spec: CaseSpec, schedule: BreathSchedule, alv_mmHg, tracks: Tracks, rng) -> tuple:
     """SpO2 and pulse on the session clock at 1 Hz (float), plus the artefact mask."""
     grid = tracks.grid_s
@@ -356,7 +369,7 @@ def _oximetry(spec: CaseSpec, schedule: BreathSchedule, alv_mmHg, tracks: Tracks
     paco2 = np.interp(grid, schedule.start_s, alv_mmHg) + PA_ET_GRADIENT_MMHG
     fio2 = ox.fio2_nasal_cannula(tracks.flow_l_min)
     pao2 = ox.simulate_pao2(grid, apnoeic, fio2, paco2, fast, params)
-    spo2 = ox.finger_spo2_pct(pao2, params, rng)
+    spo2 = _with_dips(grid, ox.finger_spo2_pct(pao2, params, rng), spec.planted_of(Spo2Dip))
     pulse = ox.pulse_bpm(grid, spec.physiology.hr_bpm, spo2, rng)
     t0 = np.ceil(max(0.0, spec.spo2_offset_s))
     keep = (grid >= t0) & (grid <= spec.duration_s)

@@ -35,6 +35,7 @@ from sedreport.demo.case import (
 )
 from sedreport.demo.monitor import probe_windows
 from sedreport.demo.simulate import Signals, disconnected_spans
+from sedreport.demo.truth_events import truth_events
 
 TRUTH_FORMAT = "sedreport-truth/1"
 #: Truth is labelled by the shipped default criteria, read from the file (one definition):
@@ -128,14 +129,14 @@ def _rebreathings(spec: CaseSpec, sig: Signals) -> list[dict]:
     return out
 
 
-def _obstructions(spec: CaseSpec, sig: Signals) -> list[dict]:
+def _sloped_plateaus(spec: CaseSpec, sig: Signals) -> list[dict]:
     s = sig.schedule
     out = []
     for o in spec.planted_of(Obstruction):
         window = (s.start_s >= o.start_s) & (s.start_s < o.start_s + o.duration_s)
         idx = np.flatnonzero(window & s.obstructed)
         if idx.size:
-            out.append(_episode("obstruction", None, s.start_s[idx[0]], s.end_s[idx[-1]]))
+            out.append(_episode("sloped_plateau", None, s.start_s[idx[0]], s.end_s[idx[-1]]))
     return out
 
 
@@ -241,7 +242,7 @@ def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
         _apnoeas(sig)
         + _hypoventilations(spec, sig)
         + _rebreathings(spec, sig)
-        + _obstructions(spec, sig)
+        + _sloped_plateaus(spec, sig)
         + _co2_findings(spec, sig)
         + _desaturations(sig)
         + [_episode("signal_loss", g["source"], g["start_s"], g["end_s"]) for g in gaps]
@@ -259,6 +260,8 @@ def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
             "fico2_mmHg": [_r(x, 2) for x in s.fico2_mmHg],
         },
         "episodes": episodes,
+        "events": truth_events(spec, sig, episodes),
+        "outcome": list(spec.outcome),
         "gaps": gaps,
         "artefacts": _artefacts(spec, sig),
     }

@@ -164,6 +164,7 @@ def session_yaml(spec: CaseSpec) -> str:
         },
         "barometric_mmHg": spec.barometric_mmHg,
         "criteria": None,
+        "outcome": list(spec.outcome),
     }
     head = (
         f"# Invented demo session ({spec.scenario}); no real patient. Made by `sedreport demo`.\n"

@@ -1,4 +1,4 @@
-"""All detectors in one pass: findings of every kind, linked, sorted and numbered."""
+"""All detectors in one pass: findings of every kind, linked, sorted, numbered and graded."""
 
 from __future__ import annotations
 
@@ -8,13 +8,15 @@ from sedreport.episodes._intervals import Finding
 from sedreport.episodes.apnoea import detect_apnoea
 from sedreport.episodes.co2_signal import detect_co2_signal_absent
 from sedreport.episodes.desaturation import detect_desaturation
+from sedreport.episodes.dips import deep_dip_findings
 from sedreport.episodes.etco2_fall import detect_etco2_fall
+from sedreport.episodes.events import grade_events
 from sedreport.episodes.hypoventilation import detect_hypoventilation
 from sedreport.episodes.linking import link_episode
 from sedreport.episodes.low_amplitude import detect_low_amplitude, outside_stretches
-from sedreport.episodes.model import EPISODE_KINDS, Episode
+from sedreport.episodes.model import EPISODE_KINDS, AdverseEvent, Episode
 from sedreport.episodes.signal_loss import detect_signal_loss, stream_gaps
-from sedreport.episodes.waveform import detect_obstruction, detect_rebreathing
+from sedreport.episodes.waveform import detect_rebreathing, detect_sloped_plateau
 from sedreport.session import Session
 
 
@@ -49,8 +51,9 @@ def find_findings(
         *low,
         *detect_etco2_fall(breaths, baseline, gs, ge, criteria, low_amplitude=low_s),
         *detect_desaturation(trends, criteria),
+        *deep_dip_findings(trends, criteria),
         *detect_rebreathing(breaths, gs, ge, criteria),
-        *detect_obstruction(outside_stretches(breaths, low_s), baseline, gs, ge, criteria),
+        *detect_sloped_plateau(outside_stretches(breaths, low_s), baseline, gs, ge, criteria),
         *detect_signal_loss(session, criteria),
     ]
     return sorted(found, key=lambda f: (f.start_s, EPISODE_KINDS.index(f.kind), f.end_s))
@@ -87,8 +90,28 @@ def detect_episodes(
     >>> [(e.id, e.kind, e.start_time[11:19]) for e in eps]
     [('E1', 'apnoea', '14:35:12')]
     """
+    return detect_events(session, breaths, trends, baseline, criteria)[0]
+
+
+def detect_events(
+    session: Session,
+    breaths: BreathTable,
+    trends: Trends,
+    baseline: Baseline,
+    criteria: Criteria,
+) -> tuple[tuple[Episode, ...], tuple[AdverseEvent, ...]]:
+    """Every episode, linked and numbered, and the adverse events they make (World SIVA).
+
+    Returns
+    -------
+    episodes : tuple of Episode
+        Ids ``E1``... by onset, each with its ``event`` id and tier (None for findings).
+    events : tuple of AdverseEvent
+        Ids ``A1``... by onset (:func:`sedreport.episodes.events.grade_events`).
+    """
     findings = find_findings(session, breaths, trends, baseline, criteria)
-    return tuple(
+    linked = tuple(
         link_episode(f, f"E{i}", session, breaths, trends, criteria)
         for i, f in enumerate(findings, start=1)
     )
+    return grade_events(session, linked, criteria)

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from sedreport.criteria import Criteria
-from sedreport.episodes.model import LinkedDose
+from sedreport.episodes.model import DrugTotal, LinkedDose, RunningInfusion
 from sedreport.session import Patient, Session
 
 
@@ -41,6 +41,69 @@ def _per(amount: float, kg: float | None) -> float | None:
     return amount / kg if kg else None
 
 
+def _linked(session: Session, d, onset_s: float) -> LinkedDose:
+    """One dose line as a :class:`LinkedDose` with its drug's cumulative amount at onset."""
+    weight = session.patient.weight_kg or None
+    cum = float(session.cumulative_mg(d.drug, onset_s))
+    lbw = patient_lbw_kg(session.patient)
+    return LinkedDose(
+        drug=d.drug,
+        dose=d.dose,
+        unit=d.unit,
+        route=d.route,
+        kind=d.kind,
+        time_s=d.time_s,
+        seconds_before_onset=float(onset_s - d.time_s),
+        dose_mg_per_kg=_per(d.amount_mg, weight) if d.kind == "bolus" else None,
+        cumulative_mg=cum,
+        cumulative_mg_per_kg=_per(cum, weight),
+        cumulative_mg_per_kg_lbw=_per(cum, lbw),
+    )
+
+
+def doses_during(session: Session, onset_s: float, end_s: float) -> tuple[LinkedDose, ...]:
+    """Doses given after ``onset_s`` up to and including ``end_s`` (seconds before onset < 0).
+
+    The cumulative amounts are those at onset, like :func:`link_doses`.
+    """
+    return tuple(_linked(session, d, onset_s) for d in session.doses if onset_s < d.time_s <= end_s)
+
+
+def cumulative_at(session: Session, t_s: float) -> tuple[DrugTotal, ...]:
+    """Each drug given up to ``t_s`` with its cumulative mg and mg/kg (total body weight)."""
+    weight = session.patient.weight_kg or None
+    out = []
+    for drug in session.drugs:
+        mg = float(session.cumulative_mg(drug, t_s))
+        if mg > 0:
+            out.append(DrugTotal(drug, mg, _per(mg, weight)))
+    return tuple(out)
+
+
+def infusions_at(session: Session, t_s: float) -> tuple[RunningInfusion, ...]:
+    """Infusions running at ``t_s``: the last infusion line of each drug at or before it,
+    when its rate is above zero (rate as written and in mg/h).
+
+    Examples
+    --------
+    >>> from datetime import datetime, timezone
+    >>> from sedreport.session import Dose, Session
+    >>> d = Dose(60.0, "propofol", 50.0, "mcg/kg/min", "iv", "infusion", 0.0, 240.0, 2)
+    >>> s = Session("X", datetime(2026, 1, 1, tzinfo=timezone.utc), doses=(d,))
+    >>> [(i.drug, i.rate, i.unit, i.rate_mg_per_h) for i in infusions_at(s, 300.0)]
+    [('propofol', 50.0, 'mcg/kg/min', 240.0)]
+    """
+    last: dict[str, object] = {}
+    for d in session.doses:
+        if d.kind == "infusion" and d.time_s <= t_s:
+            last[d.drug] = d
+    return tuple(
+        RunningInfusion(d.drug, d.dose, d.unit, d.rate_mg_per_h, d.time_s)
+        for d in last.values()
+        if d.rate_mg_per_h > 0
+    )
+
+
 def link_doses(session: Session, onset_s: float, criteria: Criteria) -> tuple[LinkedDose, ...]:
     """Doses given from ``onset_s - dose_lookback_s`` up to and including ``onset_s``.
 
@@ -49,26 +112,8 @@ def link_doses(session: Session, onset_s: float, criteria: Criteria) -> tuple[Li
     infusions, :meth:`Session.cumulative_mg`) per kg total and per kg lean body weight.
     """
     lookback = criteria.linking.dose_lookback_s
-    weight = session.patient.weight_kg or None
-    lbw = patient_lbw_kg(session.patient)
-    out = []
-    for d in session.doses:
-        if not (onset_s - lookback <= d.time_s <= onset_s):
-            continue
-        cum = float(session.cumulative_mg(d.drug, onset_s))
-        out.append(
-            LinkedDose(
-                drug=d.drug,
-                dose=d.dose,
-                unit=d.unit,
-                route=d.route,
-                kind=d.kind,
-                time_s=d.time_s,
-                seconds_before_onset=float(onset_s - d.time_s),
-                dose_mg_per_kg=_per(d.amount_mg, weight) if d.kind == "bolus" else None,
-                cumulative_mg=cum,
-                cumulative_mg_per_kg=_per(cum, weight),
-                cumulative_mg_per_kg_lbw=_per(cum, lbw),
-            )
-        )
-    return tuple(out)
+    return tuple(
+        _linked(session, d, onset_s)
+        for d in session.doses
+        if onset_s - lookback <= d.time_s <= onset_s
+    )

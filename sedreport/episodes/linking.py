@@ -1,4 +1,7 @@
-"""Linking a detector's finding to the case: worst values, doses, interventions, severity."""
+"""Linking a detector's finding to the case: worst values, doses, infusions, interventions.
+
+The tier is given later, once per adverse event (:mod:`sedreport.episodes.events`).
+"""
 
 from __future__ import annotations
 
@@ -7,9 +10,9 @@ import numpy as np
 from sedreport.capnography.model import BreathTable, Trends
 from sedreport.criteria import Criteria
 from sedreport.episodes._intervals import Finding
-from sedreport.episodes.drugs import link_doses
+from sedreport.episodes.drugs import cumulative_at, doses_during, infusions_at, link_doses
 from sedreport.episodes.model import Episode, LinkedIntervention
-from sedreport.episodes.severity import grade_episode, intervention_tier
+from sedreport.episodes.severity import intervention_tier
 from sedreport.session import Session
 
 #: Kinds whose onset can precede a desaturation (capnographic lead time).
@@ -19,7 +22,10 @@ LEAD_KINDS = ("apnoea", "hypoventilation")
 def link_interventions(
     session: Session, start_s: float, end_s: float, criteria: Criteria
 ) -> tuple[LinkedIntervention, ...]:
-    """Interventions from onset to ``end_s + criteria.linking.intervention_after_s``."""
+    """Interventions from ``start_s - criteria.linking.intervention_before_s`` to
+    ``end_s + criteria.linking.intervention_after_s`` (one begun shortly before the onset,
+    e.g. bag-mask ventilation for the apnoea that causes a desaturation, belongs to it)."""
+    first = start_s - criteria.linking.intervention_before_s
     last = end_s + criteria.linking.intervention_after_s
     return tuple(
         LinkedIntervention(
@@ -31,7 +37,7 @@ def link_interventions(
             tier=intervention_tier(e.event),
         )
         for e in session.interventions
-        if start_s <= e.time_s <= last
+        if first <= e.time_s <= last
     )
 
 
@@ -93,12 +99,11 @@ def link_episode(
     trends: Trends,
     criteria: Criteria,
 ) -> Episode:
-    """Turn one finding into an :class:`Episode` with worst values, links and severity."""
+    """Turn one finding into an :class:`Episode` with worst values and links (no tier yet)."""
     spo2_t, spo2_v = usable_spo2(trends)
     peak_et, min_spo2, min_rr = worst_values(finding, breaths, spo2_t, spo2_v)
     duration = finding.end_s - finding.start_s
     interventions = link_interventions(session, finding.start_s, finding.end_s, criteria)
-    tier, why = grade_episode(finding.kind, duration, min_spo2, interventions, criteria)
     return Episode(
         id=episode_id,
         kind=finding.kind,
@@ -107,16 +112,19 @@ def link_episode(
         end_s=finding.end_s,
         duration_s=duration,
         start_time=session.clock_time(finding.start_s).isoformat(timespec="milliseconds"),
-        severity=tier,
+        severity=None,
         peak_etco2_mmHg=peak_et,
         min_spo2_pct=min_spo2,
         min_rr_per_min=min_rr,
         preceding_doses=link_doses(session, finding.start_s, criteria),
         interventions=interventions,
-        notes=(*finding.notes, why),
+        notes=finding.notes,
         time_to_first_intervention_s=min(
             (i.seconds_after_onset for i in interventions), default=None
         ),
         time_to_resolution_s=duration if finding.resolved else None,
         capnographic_lead_s=capnographic_lead_s(finding, spo2_t, spo2_v, criteria),
+        infusions_at_onset=infusions_at(session, finding.start_s),
+        doses_during=doses_during(session, finding.start_s, finding.end_s),
+        cumulative_at_onset=cumulative_at(session, finding.start_s),
     )

@@ -16,8 +16,7 @@ import numpy as np
 from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import Criteria
 from sedreport.episodes.linking import usable_spo2
-from sedreport.episodes.model import EPISODE_KINDS, SEVERITY_TIERS, Episode
-from sedreport.episodes.severity import tier_rank
+from sedreport.episodes.model import EPISODE_KINDS, SEVERITY_TIERS, AdverseEvent, Episode
 from sedreport.gaps import covered_s, stream_gap_findings
 from sedreport.oximetry import mark_oximetry
 from sedreport.session import QualityFinding, Session, SourceInfo
@@ -36,7 +35,8 @@ class Summary:
     co2_coverage_pct, spo2_coverage_pct : float or None
         Share of the window covered by gap-free samples (the criteria's gap rule), percent.
     episodes_by_kind, episodes_by_severity : dict of str to int
-        Episode counts per kind (every kind of the contract) and per severity tier.
+        Episode counts per kind (every kind of the contract) and per tier of the adverse event
+        they belong to (``none`` counts findings; kept for compatibility: count events).
     longest_apnoea_s : float or None
         None when no CO2 breath could be assessed.
     min_spo2_pct : float or None
@@ -49,10 +49,14 @@ class Summary:
         Over valid breaths.
     n_breaths, n_valid_breaths : int
     attention : tuple of str
-        Plain sentences for the reviewer's attention.
+        Plain sentences for the reviewer's attention: every adverse event with its tier, every
+        CO2 or SpO2 gap during sedation, brief SpO2 dips, what could not be assessed.
     co2_low_amplitude_pct, co2_signal_absent_pct : float or None
         Share of the window inside low-amplitude stretches / absent-CO2-signal findings,
         percent: CO2 recorded there says little about ventilation (None without CO2).
+    events_by_severity : dict of str to int
+        Adverse events per World SIVA tier (``minimal``, ``minor``, ``moderate``,
+        ``sentinel``): what a committee counts.
     """
 
     sedation_start_s: float
@@ -74,6 +78,7 @@ class Summary:
     attention: tuple[str, ...]
     co2_low_amplitude_pct: float | None = None
     co2_signal_absent_pct: float | None = None
+    events_by_severity: dict[str, int] = field(default_factory=dict)
 
     def to_dict(self) -> dict:
         """The ``summary`` object of the episodes JSON (field names as keys)."""
@@ -229,8 +234,11 @@ def summarise_session(
     episodes: tuple[Episode, ...],
     criteria: Criteria,
     quality: Quality,
+    events: tuple[AdverseEvent, ...] = (),
+    notes: tuple[str, ...] = (),
 ) -> Summary:
-    """The :class:`Summary` of an Analysis."""
+    """The :class:`Summary` of an Analysis (``notes``: further attention sentences, e.g.
+    the brief SpO2 dips)."""
     lo, hi, how = sedation_window_s(session)
     span = hi - lo
     gap = criteria.signal_loss
@@ -247,7 +255,10 @@ def summarise_session(
         co2_coverage_pct=_pct(co2_cov, span),
         spo2_coverage_pct=_pct(covered_s(spo2_t, gap.spo2_gap_s, lo, hi), span),
         episodes_by_kind={k: sum(e.kind == k for e in episodes) for k in EPISODE_KINDS},
-        episodes_by_severity={t: sum(e.severity == t for e in episodes) for t in SEVERITY_TIERS},
+        episodes_by_severity={
+            t: sum(e.severity == (None if t == "none" else t) for e in episodes)
+            for t in ("none", *SEVERITY_TIERS)
+        },
         longest_apnoea_s=max(apnoeas) if apnoeas else (0.0 if len(breaths) else None),
         min_spo2_pct=_finite_or_none(spo2_v, np.min),
         spo2_threshold_pct=float(threshold),
@@ -260,7 +271,13 @@ def summarise_session(
         median_rr_per_min=_finite_or_none(breaths.rr_per_min[valid], np.median),
         n_breaths=len(breaths),
         n_valid_breaths=int(valid.sum()),
-        attention=tuple(_attention(session, episodes, quality)),
+        attention=(
+            *_event_lines(session, episodes, events),
+            *_gap_lines(session, quality, lo, hi, gap.min_duration_s),
+            *notes,
+            *_attention(session, quality),
+        ),
+        events_by_severity={t: sum(ev.severity == t for ev in events) for t in SEVERITY_TIERS},
         co2_low_amplitude_pct=kind_share_pct(episodes, "low_amplitude", lo, hi)
         if session.co2
         else None,
@@ -270,15 +287,52 @@ def summarise_session(
     )
 
 
-def _attention(session: Session, episodes: tuple[Episode, ...], quality: Quality) -> list[str]:
+def _event_lines(
+    session: Session, episodes: tuple[Episode, ...], events: tuple[AdverseEvent, ...]
+) -> list[str]:
+    """One sentence per adverse event: id, time, tier, its episodes and interventions."""
+    kinds = {e.id: e.kind.replace("_", " ") for e in episodes}
     out = []
-    for e in episodes:
-        if tier_rank(e.severity) >= tier_rank("moderate"):
-            out.append(
-                f"{e.id} {e.kind} at {session.clock_time(e.start_s):%H:%M:%S} "
-                f"({_duration_text(e.duration_s)}) graded {e.severity}."
-            )
-    out.extend(quality.limitations)
+    for ev in events:
+        what = " -> ".join(kinds.get(i, i) for i in ev.episodes) or "outcome only"
+        acts = ", ".join(dict.fromkeys(i.event.replace("_", " ") for i in ev.interventions))
+        outcome = ", ".join(o.text.replace("_", " ") for o in ev.outcome)
+        extra = "".join(
+            [f"; interventions: {acts}" if acts else "", f"; outcome: {outcome}" if outcome else ""]
+        )
+        out.append(
+            f"Adverse event {ev.id} at {session.clock_time(ev.start_s):%H:%M:%S}, "
+            f"{ev.severity}: {what} ({', '.join(ev.episodes) or 'no episode'}){extra}."
+        )
+    return out
+
+
+def _gap_lines(session: Session, quality: Quality, lo: float, hi: float, min_s: float) -> list[str]:
+    """Every CO2 or SpO2 gap that meets the sedation window: one line each when at least
+    ``min_s`` long (the signal-loss listing minimum), the shorter ones counted per stream."""
+    out = []
+    short: dict[str, list[float]] = {}
+    for g in quality.gaps:
+        if g.start_s is None or g.end_s is None or g.end_s < lo or g.start_s > hi:
+            continue
+        name = "CO2" if g.source == "co2" else "SpO2"
+        if g.end_s - g.start_s < min_s:
+            short.setdefault(name, []).append(g.end_s - g.start_s)
+            continue
+        out.append(
+            f"{name} gap during sedation at {session.clock_time(g.start_s):%H:%M:%S} "
+            f"({_duration_text(g.end_s - g.start_s)}): that stream could not be assessed there."
+        )
+    for name, lengths in short.items():
+        out.append(
+            f"{len(lengths)} shorter {name} gap(s) during sedation, {sum(lengths):.0f} s in all "
+            f"(each under {min_s:g} s)."
+        )
+    return out
+
+
+def _attention(session: Session, quality: Quality) -> list[str]:
+    out = list(quality.limitations)
     if not session.doses:
         out.append("No doses recorded: the sedation window is the span of the data.")
     return out
@@ -294,7 +348,7 @@ def _limitations(session: Session, breaths: BreathTable, baseline: Baseline) -> 
     out = []
     if session.co2 is None:
         out.append(
-            "No CO2 stream: apnoea, hypoventilation, rebreathing and obstruction not assessed."
+            "No CO2 stream: apnoea, hypoventilation, rebreathing and sloped plateau not assessed."
         )
     elif not np.any(breaths.valid):
         out.append("No valid breath found in the CO2 stream: CO2 episodes not assessed.")
@@ -303,10 +357,10 @@ def _limitations(session: Session, breaths: BreathTable, baseline: Baseline) -> 
     if session.co2 is not None and not np.isfinite(baseline.etco2_mmHg):
         out.append(
             "No baseline EtCO2: only the absolute EtCO2 criterion applied; hypopnoeic "
-            "hypoventilation and obstruction not assessed."
+            "hypoventilation and sloped plateau not assessed."
         )
     elif session.co2 is not None and not np.isfinite(baseline.phase3_slope_norm_per_s):
-        out.append("No baseline phase III slope: obstruction judged on the upstroke only.")
+        out.append("No baseline phase III slope: sloped plateau judged on the upstroke only.")
     return out
 
 

@@ -1,6 +1,9 @@
-"""Waveform-shape episodes: rebreathing (raised inspired CO2) and obstruction (abnormal shape).
+"""Waveform-shape episodes: rebreathing (raised inspired CO2) and sloped plateau.
 
-Obstruction is judged against the patient's own baseline shape, never an absolute slope alone:
+A sloped plateau ("prolonged phase III", the shark fin) is a lower-airway shape index; it is
+not the upper-airway obstruction of the World SIVA tool (Mason et al., Br J Anaesth 2012).
+
+A sloped plateau is judged against the patient's own baseline shape, never an absolute slope alone:
 a COPD patient's sloped plateau is their baseline (DESIGN.md). The shape indices follow the
 phase III slope and phase II upstroke of You et al., Eur Respir J 1994 and Hisamuddin et al.,
 Int J Emerg Med 2009; the ratios that call a shape abnormal are criteria-file choices.
@@ -64,7 +67,7 @@ def running_median(x: np.ndarray, n: int) -> np.ndarray:
     return out
 
 
-def obstruction_mask(
+def sloped_plateau_mask(
     breaths: BreathTable, baseline: Baseline, criteria: Criteria, smooth: bool = True
 ) -> np.ndarray:
     """Breaths whose shape departs from the patient's baseline (bool array).
@@ -77,7 +80,7 @@ def obstruction_mask(
     breathing (mouth breathing past the cannula) from firing. Without a baseline slope and
     upstroke nothing qualifies. ``smooth=False`` judges each breath's own values.
     """
-    c = criteria.obstruction
+    c = criteria.sloped_plateau
     mask = np.zeros(len(breaths), dtype=bool)
     base_slope, base_up = baseline.phase3_slope_norm_per_s, baseline.upstroke_s
     if not (np.isfinite(base_slope) and np.isfinite(base_up) and base_up > 0):
@@ -92,25 +95,25 @@ def obstruction_mask(
     return mask
 
 
-def detect_obstruction(
+def detect_sloped_plateau(
     breaths: BreathTable,
     baseline: Baseline,
     gap_starts: np.ndarray,
     gap_ends: np.ndarray,
     criteria: Criteria,
 ) -> list[Finding]:
-    """Sustained abnormal-shape breaths (kind ``obstruction``), first to last abnormal breath.
+    """Sustained abnormal-shape breaths (kind ``sloped_plateau``), first to last such breath.
 
     The smoothed indices decide that a run exists; its edges are then dated by the breaths'
     own values: each edge moves outward over adjacent breaths that qualify on their own
     values, stepping over at most one that does not, within half a smoothing window (so a
     noisy breath next to the onset does not delay it).
     """
-    c = criteria.obstruction
+    c = criteria.sloped_plateau
     if len(breaths) == 0:
         return []
-    mask = obstruction_mask(breaths, baseline, criteria)
-    raw = obstruction_mask(breaths, baseline, criteria, smooth=False)
+    mask = sloped_plateau_mask(breaths, baseline, criteria)
+    raw = sloped_plateau_mask(breaths, baseline, criteria, smooth=False)
     runs = breath_runs(
         breaths.start_s, breaths.end_s, mask, breaths.valid, c.max_interruption_s,
         gap_starts, gap_ends,
@@ -126,9 +129,9 @@ def detect_obstruction(
         note = (
             "Waveform shape departs from this patient's own baseline (phase III slope >= "
             f"{c.slope_ratio:g}x and upstroke >= {c.upstroke_ratio:g}x baseline); a shape "
-            "index, not a diagnosis of airway obstruction."
+            "index (prolonged phase III), not a diagnosis of airway obstruction."
         )
-        out.append(Finding("obstruction", None, start, end, (note,)))
+        out.append(Finding("sloped_plateau", None, start, end, (note,)))
     return out
 
 

@@ -16,7 +16,7 @@ import yaml
 
 from sedreport.errors import SessionError
 from sedreport.ingest.units import canonical_co2_unit
-from sedreport.session import BloodGas, Oxygen, Patient, Team
+from sedreport.session import OUTCOMES, BloodGas, Oxygen, Patient, Team
 
 FORMAT = "sedreport-session/1"
 SESSION_ID_RE = re.compile(r"[A-Za-z0-9._-]{1,64}")
@@ -39,6 +39,7 @@ TOP_KEYS = (
     "barometric_mmHg",
     "criteria",
     "blood_gas",
+    "outcome",
 )
 PATIENT_KEYS = (
     "ref",
@@ -91,6 +92,7 @@ class SessionSpec:
     sources: dict[str, SourceSpec]
     barometric_mmHg: float
     criteria: str | None
+    outcome: tuple[str, ...] = ()
     warnings: tuple[str, ...] = field(default=())
     blood_gas: BloodGas | None = None
 
@@ -332,6 +334,24 @@ def _sources(f: _Fields, doc: dict) -> dict[str, SourceSpec]:
     return out
 
 
+def _outcome(f: _Fields, doc: dict) -> tuple[str, ...]:
+    """The ``outcome:`` list: words of :data:`OUTCOMES`, each once; no key or ``[]`` = none."""
+    value = doc.get("outcome")
+    if value is None:
+        return ()
+    if not isinstance(value, list):
+        raise f.err("outcome", f"must be a list of outcome words, got {value!r}")
+    out: list[str] = []
+    for i, word in enumerate(value):
+        if not isinstance(word, str) or word.strip().lower() not in OUTCOMES:
+            raise f.err(
+                f"outcome[{i}]", f"{word!r} is not a known outcome (known: {', '.join(OUTCOMES)})"
+            )
+        if word.strip().lower() not in out:
+            out.append(word.strip().lower())
+    return tuple(out)
+
+
 def parse_session_yaml(doc: dict, where: str) -> SessionSpec:
     """Check a parsed ``session.yaml`` mapping field by field.
 
@@ -366,5 +386,6 @@ def parse_session_yaml(doc: dict, where: str) -> SessionSpec:
         barometric_mmHg=f.number(doc, "barometric_mmHg", 400, 800, " mmHg") or 760.0,
         criteria=criteria,
         blood_gas=_blood_gas(f, doc),
+        outcome=_outcome(f, doc),
         warnings=tuple(f.warnings),
     )

@@ -168,6 +168,7 @@ def _session(
         barometric_mmHg=spec.barometric_mmHg,
         criteria_file=_criteria(spec, ctx),
         blood_gas=spec.blood_gas,
+        outcome=spec.outcome,
         co2=loaded["co2"].data if "co2" in loaded else None,
         spo2=loaded["spo2"].data if "spo2" in loaded else None,
         doses=loaded["doses"].data if "doses" in loaded else (),

@@ -3,7 +3,8 @@
 Breaths: one row a breath, the contract columns first (``start_s, end_s, etco2_mmHg,
 fico2_mmHg, rr_per_min, phase3_slope_mmHg_s, valid``), then ``duration_s, upstroke_s,
 phase3_slope_norm_per_s, reason``; ``valid`` is ``true``/``false``, a missing value is empty.
-Episodes: one row an episode with the scalar fields of :data:`EPISODE_SCALARS` and counts.
+Episodes: one row an episode with the scalar fields of :data:`EPISODE_SCALARS` (``event`` is the
+id of its adverse event, empty for a finding) and counts.
 """
 
 from __future__ import annotations
@@ -51,6 +52,7 @@ EPISODE_SCALARS: tuple[str, ...] = (
     "time_to_first_intervention_s",
     "time_to_resolution_s",
     "capnographic_lead_s",
+    "event",
 )
 
 

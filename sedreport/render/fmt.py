@@ -84,11 +84,7 @@ def words(name: str) -> str:
     return name.replace("_", " ")
 
 
-#: How severity tiers read on the page; ``none`` means the episode met the criteria but reached
-#: no tier of the World SIVA tool (Mason et al., Br J Anaesth 2012).
-SEVERITY_WORDS: dict[str, str] = {"none": "below minor"}
-
-
-def severity_text(tier: str) -> str:
-    """``minor`` / ``moderate`` / ``sentinel`` as they are; ``none`` -> ``below minor``."""
-    return SEVERITY_WORDS.get(tier, words(tier))
+def severity_text(tier: str | None) -> str:
+    """A World SIVA tier as it is; None (an episode that is a finding, not part of an adverse
+    event) reads ``finding``."""
+    return "finding" if tier is None else words(tier)

@@ -11,7 +11,6 @@ from sedreport.render.fmt import (
     clock_text,
     duration_text,
     number_text,
-    severity_text,
     words,
 )
 from sedreport.render.glossary import TermMark, standard_terms
@@ -105,6 +104,13 @@ def _episodes_text(analysis: Analysis) -> str:
     return f"{len(analysis.episodes)}: {_counts_text(analysis.summary.episodes_by_kind)}"
 
 
+def _events_text(analysis: Analysis) -> str:
+    """``2: minor 1, sentinel 1`` (World SIVA tiers of the adverse events), or ``none``."""
+    if not analysis.events:
+        return "none"
+    return f"{len(analysis.events)}: {_counts_text(analysis.summary.events_by_severity)}"
+
+
 def _coverage_text(present: bool, pct: float | None, missing: str) -> str:
     return number_text(pct, 0, "% of sedation time") if present else missing
 
@@ -135,7 +141,7 @@ def summary_pairs(analysis: Analysis) -> list[tuple[str, str]]:
             _coverage_text(s.spo2 is not None, sm.spo2_coverage_pct, "no oximetry file"),
         ),
         ("Episodes", _episodes_text(analysis)),
-        ("By severity", _counts_text(sm.episodes_by_severity, severity_text)),
+        ("Adverse events", _events_text(analysis)),
         ("Longest apnoea", _longest_apnoea_text(analysis)),
         ("Lowest SpO2", number_text(sm.min_spo2_pct, 0, "%")),
         (f"SpO2 < {sm.spo2_threshold_pct:g} %", duration_text(sm.time_below_spo2_threshold_s)),

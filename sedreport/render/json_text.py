@@ -23,7 +23,7 @@ from sedreport.session import Session
 
 if TYPE_CHECKING:  # types only: the text outputs must not load the detectors
     from sedreport.analysis import Analysis
-    from sedreport.episodes.model import Episode
+    from sedreport.episodes.model import AdverseEvent, Episode
 
 
 def json_ready(x: object) -> object:
@@ -54,6 +54,13 @@ def episode_to_dict(episode: Episode) -> dict:
     return json_ready(asdict(episode))
 
 
+def event_to_dict(event: AdverseEvent) -> dict:
+    """One adverse event in the JSON contract: ``id, episodes, start_s, end_s, start_time,
+    severity, descriptors [{text, tier, episode}], interventions, outcome [{text, tier}],
+    capnographic_lead_s, notes``."""
+    return json_ready(asdict(event))
+
+
 def episodes_to_dict(analysis: Analysis) -> dict:
     """The ``sedreport episodes --format json`` object of DESIGN.md (NaN as null)."""
     s = analysis.session
@@ -63,6 +70,8 @@ def episodes_to_dict(analysis: Analysis) -> dict:
             "started": s.started.isoformat(),
             "criteria": analysis.criteria.to_dict(),
             "episodes": [episode_to_dict(e) for e in analysis.episodes],
+            "events": [event_to_dict(ev) for ev in analysis.events],
+            "brief_dips": [asdict(d) for d in analysis.brief_dips],
             "summary": analysis.summary.to_dict(),
             "quality": analysis.quality.to_dict(),
         }

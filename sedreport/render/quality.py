@@ -190,12 +190,12 @@ CRITERION_WORDS: dict[str, str] = {
     "rebreathing.fico2_above_mmHg": "FiCO2 above",
     "rebreathing.min_duration_s": "shortest episode counted",
     "rebreathing.max_interruption_s": "longest normal spell inside one episode",
-    "obstruction.slope_ratio": "plateau slope, times the patient's baseline",
-    "obstruction.slope_floor_per_s": "smallest baseline slope used",
-    "obstruction.upstroke_ratio": "upstroke time, times the patient's baseline",
-    "obstruction.smoothing_breaths": "breaths in the running median",
-    "obstruction.min_duration_s": "shortest episode counted",
-    "obstruction.max_interruption_s": "longest normal spell inside one episode",
+    "sloped_plateau.slope_ratio": "plateau slope, times the patient's baseline",
+    "sloped_plateau.slope_floor_per_s": "smallest baseline slope used",
+    "sloped_plateau.upstroke_ratio": "upstroke time, times the patient's baseline",
+    "sloped_plateau.smoothing_breaths": "breaths in the running median",
+    "sloped_plateau.min_duration_s": "shortest episode counted",
+    "sloped_plateau.max_interruption_s": "longest normal spell inside one episode",
     "etco2_fall.fall_from_baseline_mmHg": "EtCO2 fall below baseline",
     "etco2_fall.fall_from_baseline_pct": "relative EtCO2 fall below baseline",
     "etco2_fall.min_duration_s": "shortest fall counted",
@@ -216,6 +216,8 @@ CRITERION_WORDS: dict[str, str] = {
     "linking.dose_lookback_s": "doses linked from this long before onset",
     "linking.intervention_after_s": "actions linked up to this long after the end",
     "linking.lead_window_s": "SpO2 fall linked up to this long after the end",
+    "linking.intervention_before_s": "actions linked from this long before onset",
+    "events.link_window_s": "episodes starting within this of the last end: one event",
 }
 
 #: Units of the criteria files as a person reads them.

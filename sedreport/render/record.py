@@ -1,6 +1,7 @@
 """The PDF sedation record: :func:`render_record` assembles every section and writes it.
 
-Sections in order: header, summary with attention sentences, episode table and doses (the
+Sections in order: header, summary with attention sentences, adverse events, episode table and
+doses (the
 first page a nurse reads), then the trend strips (never on the first page), episode close-ups, data
 quality, caution notes, and sign-off and provenance on the last page. Every page carries
 "session id · page x of y · sedreport version" and explains the abbreviations it shows.
@@ -19,6 +20,7 @@ from sedreport._version import __version__
 from sedreport.analysis import Analysis
 from sedreport.render import closeups, strips, styles
 from sedreport.render.atomic import atomic_output
+from sedreport.render.events import event_flowables
 from sedreport.render.fmt import clock_text, duration_text, severity_text, words
 from sedreport.render.glossary import TermMark, span_terms, standard_terms
 from sedreport.render.header import header_flowables, summary_flowables
@@ -31,6 +33,7 @@ from sedreport.render.provenance import (
     signoff_flowables,
 )
 from sedreport.render.quality import quality_flowables
+from sedreport.render.shape import shape_overlay
 from sedreport.render.styles import para_text
 from sedreport.render.tables import dose_flowables, episode_flowables
 
@@ -126,7 +129,8 @@ def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
         caption = Paragraph(
             para_text(
                 f"{ep.id} \u00b7 {words(ep.kind)} \u00b7 onset {clock(ep.start_s)} \u00b7 "
-                f"{duration_text(ep.duration_s)} \u00b7 severity {severity_text(ep.severity)} \u2014 "
+                f"{duration_text(ep.duration_s)} \u00b7 "
+                f"{ep.event + ' ' if ep.event else ''}{severity_text(ep.severity)} \u2014 "
                 f"{closeups.window_note(ep, clock)}"
             ),
             styles.SMALL_BOLD,
@@ -134,8 +138,10 @@ def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
         a, b = closeups.windows(ep)[0][0], closeups.windows(ep)[-1][1]
         terms = standard_terms("CO2", "SpO2", "E1, E2") | span_terms(s, a, b)
         drawing = closeups.closeup(analysis, ep, width_pt, line)
+        inset = shape_overlay(analysis, ep, width_pt)
+        extra = [inset] if inset is not None else []
         lead, head = head, []
-        out.append(KeepTogether([*lead, caption, drawing, TermMark(terms), Spacer(1, 6)]))
+        out.append(KeepTogether([*lead, caption, drawing, *extra, TermMark(terms), Spacer(1, 6)]))
     return out
 
 
@@ -144,6 +150,7 @@ def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | No
     story: list = []
     story += header_flowables(analysis, width_pt)
     story += summary_flowables(analysis, width_pt)
+    story += event_flowables(analysis, width_pt)
     story += episode_flowables(analysis, width_pt)
     story += dose_flowables(analysis, width_pt)
     story += trend_flowables(analysis, width_pt)

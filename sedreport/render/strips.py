@@ -14,6 +14,7 @@ from reportlab.graphics.shapes import Drawing, Group, Rect
 
 from sedreport.analysis import Analysis
 from sedreport.render import styles
+from sedreport.render.events import rr_for_strip, rr_window_text
 from sedreport.render.marks import LANE_PT, lane_marks
 from sedreport.render.plot import (
     Panel,
@@ -212,14 +213,15 @@ def _rr_strip(analysis: Analysis, p: Panel) -> Group:
     g.add(value_axis(p, list(np.arange(0, p.y1 + 1, 10 if p.y1 <= 40 else 20))))
     g.add(label(4, p.y + p.height / 2 + 3, "RR", 6.3, bold=True))
     g.add(label(4, p.y + p.height / 2 - 5, "/min", 5.5))
-    tr = analysis.trends
     if analysis.session.co2 is None:
         g.add(label(p.x + 6, p.y + p.height / 2, "no rate: no CO2 waveform", 7))
     else:
+        rr_t, rr = rr_for_strip(analysis)
         for shp in series_shapes(
-            p, tr.rr_time_s, tr.rr_per_min, styles.RR, max_gap_s=1.5, cols_per_pt=TREND_COLS_PER_PT
+            p, rr_t, rr, styles.RR, max_gap_s=1.5, cols_per_pt=TREND_COLS_PER_PT
         ):
             g.add(shp)
+        g.add(label(p.x + 3, p.y + p.height - 7, rr_window_text(analysis), 5.0))
     g.add(frame_box(p))
     return g
 

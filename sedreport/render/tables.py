@@ -7,7 +7,7 @@ import math
 from reportlab.platypus import Paragraph, Table, TableStyle
 
 from sedreport.analysis import Analysis
-from sedreport.episodes.model import Episode
+from sedreport.episodes.model import DrugTotal, Episode
 from sedreport.render import styles
 from sedreport.render.fmt import (
     DASH,
@@ -17,6 +17,7 @@ from sedreport.render.fmt import (
     number_text,
     per_kg_text,
     severity_text,
+    significant_text,
     words,
 )
 from sedreport.render.glossary import TermMark, dose_terms, standard_terms
@@ -223,23 +224,49 @@ def dose_flowables(analysis: Analysis, width_pt: float) -> list:
 
 
 def worst_lines(ep: Episode) -> list[str]:
-    """Worst values of an episode, one per line."""
+    """Worst values of an episode, one per line. An apnoea says how long there was no breath
+    (the rate of the breath that ended it says nothing about the pause)."""
     lines = []
+    if ep.kind == "apnoea":
+        lines.append(f"no breath for {duration_text(ep.duration_s)}")
     if ep.peak_etco2_mmHg is not None:
         lines.append(f"EtCO2 max {number_text(ep.peak_etco2_mmHg, 0)} mmHg")
     if ep.min_spo2_pct is not None:
         lines.append(f"SpO2 min {number_text(ep.min_spo2_pct, 0)} %")
-    if ep.min_rr_per_min is not None:
+    if ep.min_rr_per_min is not None and ep.kind != "apnoea":
         lines.append(f"RR min {number_text(ep.min_rr_per_min, 1)} /min")
     return lines or [DASH]
 
 
 def dose_lines(ep: Episode) -> list[str]:
-    """Doses before the onset: drug, amount as written, minutes before."""
-    return [
+    """Drugs around the onset: boluses in the look-back (amount as written, minutes before),
+    infusions running at onset (rate as written and in mg/h), doses given during the episode,
+    and each drug's cumulative mg and mg/kg at onset."""
+    lines = [
         f"{d.drug} {d.dose:g} {d.unit}, {d.seconds_before_onset / 60:.1f} min before"
         for d in ep.preceding_doses
-    ] or ["none in look-back"]
+        if d.kind == "bolus"
+    ] or ["no bolus in look-back"]
+    lines += [
+        f"running: {i.drug} {i.rate:g} {i.unit} ({significant_text(i.rate_mg_per_h)} mg/h)"
+        for i in ep.infusions_at_onset
+    ]
+    lines += [
+        f"during: {d.drug} {d.dose:g} {d.unit} {offset_text(-d.seconds_before_onset)}"
+        for d in ep.doses_during
+    ]
+    lines += [f"total at onset: {total_text(t)}" for t in ep.cumulative_at_onset]
+    return lines
+
+
+def total_text(t: DrugTotal) -> str:
+    """A drug's cumulative amount and per-kg amount; under 1 mg in mcg (``50 mcg (0.61
+    mcg/kg)``), as doses of such drugs are written."""
+    factor, unit = (1000.0, "mcg") if t.cumulative_mg < 1.0 else (1.0, "mg")
+    text = f"{t.drug} {significant_text(t.cumulative_mg * factor)} {unit}"
+    if t.cumulative_mg_per_kg:
+        text += f" ({significant_text(t.cumulative_mg_per_kg * factor)} {unit}/kg)"
+    return text
 
 
 def offset_text(seconds_after_onset: float) -> str:
@@ -277,7 +304,7 @@ def episode_row(session: Session, ep: Episode) -> list:
         cell(intervention_lines(ep)),
         cell(duration_text(ep.time_to_resolution_s)),
         cell(lead),
-        cell(severity_text(ep.severity), styles.CELL_BOLD),
+        cell([ep.event, severity_text(ep.severity)] if ep.event else "finding", styles.CELL_BOLD),
     ]
 
 
@@ -302,24 +329,23 @@ def episode_flowables(analysis: Analysis, width_pt: float) -> list:
             "Start",
             "Duration",
             "Worst values",
-            "Doses before onset",
+            "Drugs (look-back, running, during, total)",
             "Interventions (from onset)",
             "Resolved after",
             "CO2 lead",
-            "Severity",
+            "Event",
         )
     ]
     rows = [head] + [episode_row(analysis.session, ep) for ep in analysis.episodes]
     terms = standard_terms("CO2", "EtCO2", "SpO2", "RR", "E1, E2")
     terms |= dose_terms(d for ep in analysis.episodes for d in ep.preceding_doses)
-    widths = scaled([0.4, 1.5, 0.8, 0.8, 1.6, 1.7, 1.75, 0.85, 0.9, 0.75], width_pt)
+    widths = scaled([0.4, 1.5, 0.8, 0.8, 1.6, 1.75, 1.9, 0.85, 0.8, 0.95], width_pt)
     out.append(grid_table(rows, widths, terms=terms))
     out.append(
         Paragraph(
-            "Severity tiers after the World SIVA adverse sedation event tool (Mason et al., Br J "
-            "Anaesth 2012); 'below minor' means the episode met the criteria but reached no tier. "
-            "'CO2 lead' is how long the apnoea or hypoventilation preceded the first SpO2 below "
-            "the desaturation threshold it led to. Times are clock times; '+24 s' is after onset.",
+            "'Event': the adverse event the episode belongs to, with its tier; 'finding' means "
+            "listed, not an adverse event. 'CO2 lead': from the apnoea or hypoventilation onset "
+            "to the first SpO2 below the threshold. '+24 s' is after onset.",
             styles.SMALL,
         )
     )

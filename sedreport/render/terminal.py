@@ -33,16 +33,22 @@ def episode_table(analysis: Analysis) -> str:
         f"session {analysis.session.session_id}  started {analysis.session.started.isoformat()}",
         f"criteria {c.name} ({c.path}, sha256 {c.sha256[:12]})",
         f"{'id':<4} {'kind':<16} {'subtype':<12} {'start':<26} {'start_s':>9} {'dur_s':>7} "
-        f"{'severity':<9} {'EtCO2max':>8} {'SpO2min':>7} {'RRmin':>6}",
+        f"{'event':<5} {'severity':<9} {'EtCO2max':>8} {'SpO2min':>7} {'RRmin':>6}",
     ]
     for e in analysis.episodes:
         lines.append(
             f"{e.id:<4} {e.kind:<16} {e.subtype or '-':<12} {e.start_time:<26} "
-            f"{e.start_s:>9.1f} {e.duration_s:>7.1f} {e.severity:<9} "
+            f"{e.start_s:>9.1f} {e.duration_s:>7.1f} {e.event or '-':<5} "
+            f"{e.severity or 'finding':<9} "
             f"{_num(e.peak_etco2_mmHg):>8} {_num(e.min_spo2_pct):>7} {_num(e.min_rr_per_min):>6}"
         )
     if not analysis.episodes:
         lines.append("(no episode met the criteria)")
+    for ev in analysis.events:
+        lines.append(
+            f"event {ev.id}: {ev.severity} (World SIVA, Mason 2012), episodes "
+            f"{', '.join(ev.episodes) or 'none'}, start {ev.start_time}"
+        )
     lines.extend(f"attention: {a}" for a in analysis.summary.attention)
     lines.append(f"note: {caution_line()}")
     return "\n".join(lines) + "\n"
