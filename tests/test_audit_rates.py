@@ -121,3 +121,10 @@ def test_register_refuses_newer_schema(tmp_path):
     db.close()
     with pytest.raises(SedreportError, match="schema version 99"):
         Register(path)
+
+
+def test_audit_kinds_are_the_contract_kinds():
+    from sedreport.audit.rates import EPISODE_KINDS as AUDIT_KINDS
+    from sedreport.episodes.model import EPISODE_KINDS
+
+    assert AUDIT_KINDS == EPISODE_KINDS

@@ -11,8 +11,18 @@ from collections import Counter, defaultdict
 from dataclasses import dataclass
 
 from sedreport.audit.stats import Proportion, median_or_none, proportion
-from sedreport.episodes.model import EPISODE_KINDS
 
+#: Episode kinds of the contract, each with a row even when nobody had one. The same tuple as
+#: ``sedreport.episodes.model.EPISODE_KINDS`` (a test holds them equal); kept here so that a
+#: warm audit does not import the detection stack.
+EPISODE_KINDS: tuple[str, ...] = (
+    "apnoea",
+    "hypoventilation",
+    "desaturation",
+    "rebreathing",
+    "obstruction",
+    "signal_loss",
+)
 #: World SIVA adverse-event tiers (Mason et al., Br J Anaesth 2012), lowest first.
 EVENT_TIERS: tuple[str, ...] = ("minimal", "minor", "moderate", "sentinel")
 #: The kind of the adverse-event rows of the audit CSV.

@@ -11,12 +11,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict, is_dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from sedreport._version import __version__
-from sedreport.analysis import Analysis
-from sedreport.session import Session
+
+if TYPE_CHECKING:
+    from sedreport.analysis import Analysis
+    from sedreport.session import Session
 
 
 def plain(x: object) -> object:
@@ -46,7 +49,7 @@ def regimen_of(session: Session) -> str:
     Examples
     --------
     >>> from datetime import datetime, timezone
-    >>> from sedreport.session import Dose
+    >>> from sedreport.session import Dose, Session
     >>> d = [Dose(0, "Propofol", 40, "mg", "iv", "bolus", 40, 0, 2),
     ...      Dose(60, "fentanyl", 50, "mcg", "iv", "bolus", 0.05, 0, 3)]
     >>> regimen_of(Session("S", datetime(2026, 1, 1, tzinfo=timezone.utc), doses=tuple(d)))
