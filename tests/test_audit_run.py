@@ -220,3 +220,40 @@ def test_two_concurrent_audits_on_one_register(cohort, first_run, tmp_path):
         assert o.read_bytes() == first_run[1].read_bytes()
     with Register(reg) as a, Register(first_run[0]) as b:
         assert a.dump() == b.dump()
+
+
+def test_pdf_output_and_records_of_listed_cases(cohort, first_run, tmp_path):
+    import dataclasses
+
+    from sedreport.audit.rates import CaseEntry
+    from sedreport.audit.report import build_audit
+    from sedreport.render.audit_job import write_records
+
+    folder, sessions = cohort
+    pdf, recs = tmp_path / "audit.pdf", tmp_path / "records"
+    recs.mkdir()
+    result = audit(
+        [
+            str(folder / "cohort"),
+            "-o",
+            str(pdf),
+            "--register",
+            str(first_run[0]),
+            "--records",
+            str(recs),
+        ]
+    )
+    assert result.exit_code == 0, result.stderr
+    assert pdf.read_bytes().startswith(b"%PDF")
+    # A listed case gets its PDF sedation record (the real pipeline has no graded events yet,
+    # so the case list is planted here).
+    case = CaseEntry(sessions[0].name, str(sessions[0]), "", "", "", "moderate", ("A1 moderate",))
+    listed = dataclasses.replace(build_audit([]), cases=(case,))
+    written = write_records(listed, str(recs), None)
+    assert [p.rsplit("/", 1)[-1] for p in written] == [f"{sessions[0].name}-record.pdf"]
+
+
+def test_output_name_checks(tmp_path):
+    result = audit([str(tmp_path), "-o", str(tmp_path / "a.txt")])
+    assert result.exit_code == 2
+    assert "does not end in .pdf" in result.stderr
