@@ -257,3 +257,36 @@ def test_output_name_checks(tmp_path):
     result = audit([str(tmp_path), "-o", str(tmp_path / "a.txt")])
     assert result.exit_code == 2
     assert "does not end in .pdf" in result.stderr
+
+
+def test_dask_local_cluster_gives_the_same_register(cohort, first_run, tmp_path):
+    from distributed import LocalCluster
+
+    folder, _ = cohort
+    reg, out = tmp_path / "d.sqlite", tmp_path / "d.csv"
+    with LocalCluster(
+        n_workers=1, threads_per_worker=2, processes=False, protocol="tcp://",
+        host="127.0.0.1", dashboard_address=None,
+    ) as cluster:  # fmt: skip
+        result = audit(
+            [str(folder / "cohort"), "--csv", str(out), "--register", str(reg),
+             "--scheduler", cluster.scheduler_address]
+        )  # fmt: skip
+    assert result.exit_code == 0, result.stderr
+    with Register(reg) as a, Register(first_run[0]) as b:
+        assert a.dump() == b.dump()
+    assert out.read_bytes() == first_run[1].read_bytes()
+
+
+def test_unreachable_scheduler_is_a_one_line_error(cohort, tmp_path, monkeypatch):
+    import sedreport.audit.runner
+
+    monkeypatch.setattr(sedreport.audit.runner, "SCHEDULER_TIMEOUT_S", 2.0)
+    folder, _ = cohort
+    result = audit(
+        [str(folder / "cohort"), "--csv", str(tmp_path / "x.csv"), "--register",
+         str(tmp_path / "x.sqlite"), "--scheduler", "tcp://127.0.0.1:9"]
+    )  # fmt: skip
+    assert result.exit_code == 2
+    assert "--scheduler" in result.stderr
+    assert not (tmp_path / "x.csv").exists()

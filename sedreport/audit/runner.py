@@ -28,6 +28,8 @@ from sedreport.criteria import DEFAULT_CRITERIA_FILE
 from sedreport.errors import SedreportError
 
 _LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+#: Seconds to wait for a Dask scheduler before giving up (a choice of this tool).
+SCHEDULER_TIMEOUT_S = 15.0
 
 
 @dataclass(frozen=True)
@@ -184,7 +186,7 @@ def _dask_results(paths, criteria_path, scheduler: str) -> Iterator[tuple]:
             "--scheduler: dask.distributed is not installed (pip install 'sedreport[cluster]')"
         ) from exc
     try:
-        client = Client(scheduler, timeout="20s")
+        client = Client(scheduler, timeout=f"{SCHEDULER_TIMEOUT_S}s")
     except (OSError, TimeoutError) as exc:
         raise SedreportError(f"--scheduler: cannot reach {scheduler} ({exc})") from exc
     try:
