@@ -17,6 +17,7 @@ from pathlib import Path
 import pytest
 from audit_cohort import make_cohort, truth_counts
 from click.testing import CliRunner
+from test_audit_pdf import pdf_text
 
 from sedreport.analysis import analyse_session
 from sedreport.audit.register import Register
@@ -290,3 +291,32 @@ def test_unreachable_scheduler_is_a_one_line_error(cohort, tmp_path, monkeypatch
     assert result.exit_code == 2
     assert "--scheduler" in result.stderr
     assert not (tmp_path / "x.csv").exists()
+
+
+def test_compare_criteria_runs_the_same_cohort_under_a_second_file(cohort, first_run, tmp_path):
+    from sedreport.criteria import CRITERIA_DIR
+    from sedreport.render.audit_job import AuditJob, write_audit
+
+    folder, sessions = cohort
+    strict_apnoea = CRITERIA_DIR / "apnoea_30s.yaml"
+    job = AuditJob(
+        arguments=(str(folder / "cohort"),), register_path=str(first_run[0]),
+        pdf_path=str(tmp_path / "cmp.pdf"), compare_criteria=str(strict_apnoea), jobs=1,
+    )  # fmt: skip
+    done = write_audit(job)
+    assert done.compare is not None and done.compare.criteria == ("apnoea_30s",)
+
+    def apnoea(a):
+        r = next(r for r in a.rows if r.by == "all" and r.kind == "apnoea")
+        return r.sessions, r.sessions_with_event, r.events
+
+    # Independent count under the second file, through the contract.
+    expected = 0
+    for s in sessions:
+        doc = episodes_to_dict(analyse_session(load_session(s), strict_apnoea))
+        expected += sum(e["kind"] == "apnoea" for e in doc["episodes"])
+    assert apnoea(done.compare)[2] == expected
+    assert apnoea(done.compare)[0] == N
+    assert apnoea(done.compare)[2] <= apnoea(done.audit)[2]
+    text = pdf_text(tmp_path / "cmp.pdf")
+    assert "second criteria (apnoea_30s)" in text

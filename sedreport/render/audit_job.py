@@ -49,6 +49,7 @@ class AuditOutcome:
     run: RunSummary
     audit: Audit
     written: tuple[str, ...]
+    compare: Audit | None = None
 
 
 def audit_of_register(job: AuditJob, criteria_path: str | None, **callbacks) -> tuple:
@@ -120,4 +121,4 @@ def write_audit(
         written.append(job.pdf_path)
     if job.records_dir:
         written += write_records(audit, job.records_dir, job.criteria_path)
-    return AuditOutcome(run, audit, tuple(written))
+    return AuditOutcome(run, audit, tuple(written), other)
