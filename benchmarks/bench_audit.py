@@ -32,11 +32,11 @@ def _run(cmd: list[str]) -> tuple[float, float, str]:
     """Wall time (s) and peak RSS (MiB) of the audit process and its workers."""
     t0 = time.perf_counter()
     proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    _, rusage = os.wait4(proc.pid, 0)
+    _, status, rusage = os.wait4(proc.pid, 0)
     wall = time.perf_counter() - t0
     out = proc.stdout.read()
     err = proc.stderr.read()
-    if proc.returncode not in (0, None) and "audited" not in out:
+    if os.waitstatus_to_exitcode(status) != 0:
         sys.exit(f"audit failed: {err}")
     return wall, rusage.ru_maxrss / 1024.0, out.strip()
 

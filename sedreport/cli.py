@@ -292,46 +292,6 @@ def criteria_command(file: str | None) -> None:
     click.echo(criteria_text(load_criteria(file)), nl=False)
 
 
-class _Progress:
-    """Progress on stderr while sessions are analysed (a terminal only): done, failed, rate."""
-
-    def __init__(self) -> None:
-        self.bar = None
-        self.failed = 0
-        self.done = 0
-        self.t0 = 0.0
-
-    def start(self, n: int) -> None:
-        import time
-
-        self.t0 = time.monotonic()
-        if n and sys.stderr.isatty():
-            self.bar = click.progressbar(
-                length=n, label="analysing", file=sys.stderr, item_show_func=self._show
-            )
-            self.bar.__enter__()
-
-    def _show(self, _item: object) -> str:
-        import time
-
-        rate = self.done / max(time.monotonic() - self.t0, 1e-9)
-        return f"{self.done} done, {self.failed} failed, {rate:.1f}/s"
-
-    def result(self, path: str, error: str | None) -> None:
-        self.done += 1
-        if error is not None:
-            self.failed += 1
-            click.echo(
-                f"\nexcluded: {path}: {error}" if self.bar else f"excluded: {path}: {error}",
-                err=True,
-            )
-        if self.bar is not None:
-            self.bar.update(1, path)
-            if self.bar.finished:
-                self.bar.__exit__(None, None, None)
-                self.bar = None
-
-
 @cli.command("audit")
 @click.argument("sessions", nargs=-1, required=True, type=click.Path(path_type=str))
 @click.option(
@@ -456,7 +416,9 @@ def audit_command(
         reference_path=reference_path,
         risk_adjust=risk_adjust,
     )
-    progress = _Progress()
+    from sedreport.render.audit_progress import AuditProgress
+
+    progress = AuditProgress()
     done = write_audit(job, on_start=progress.start, on_result=progress.result)
     run = done.run
     click.echo(
