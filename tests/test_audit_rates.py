@@ -128,3 +128,23 @@ def test_audit_kinds_are_the_contract_kinds():
     from sedreport.episodes.model import EPISODE_KINDS
 
     assert AUDIT_KINDS == EPISODE_KINDS
+
+
+def test_unknown_event_kind_is_refused():
+    from sedreport.audit.report import build_audit
+    from sedreport.errors import SedreportError
+
+    with pytest.raises(SedreportError, match="--event: no outcome 'apnea'"):
+        build_audit(small_cohort(), event=("apnea", "any"))
+
+
+def test_build_audit_charts_the_chosen_outcome():
+    from sedreport.audit.report import build_audit
+
+    a = build_audit(small_cohort(), event=("apnoea", "any"), by=("provider",))
+    assert a.p_chart.labels == ("2026-01", "2026-02", "2026-03")
+    assert a.p_chart.k == (2, 0, 1) and a.p_chart.n == (2, 3, 1)
+    assert len(a.cusum.path) == 6
+    funnel = next(f for f in a.funnels if f.field == "provider")
+    assert dict(zip(funnel.groups, funnel.k, strict=True)) == {"RN-01": 2, "RN-02": 1, "RN-21": 0}
+    assert [c.session_id for c in a.cases] == ["S1", "S4"]

@@ -173,7 +173,7 @@ def case_entry(record: dict) -> CaseEntry | None:
     tiers = [ev["severity"] for ev in events]
     if not any(t in REVIEW_TIERS for t in tiers):
         return None
-    worst = max(tiers, key=EVENT_TIERS.index)
+    worst = max(tiers, key=lambda t: EVENT_TIERS.index(t) if t in EVENT_TIERS else -1)
     lines = []
     for ev in events:
         words = "; ".join(d.get("text", "") for d in ev.get("descriptors", []) if d)

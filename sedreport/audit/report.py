@@ -183,6 +183,11 @@ def build_audit(
         criteria.add(str(rec.get("criteria", {}).get("name")))
         first = first or rec.get("started")
         last = rec.get("started")
+    known = {k for k, _ in counter.kinds()}
+    if y and event[0] not in known:
+        raise SedreportError(
+            f"--event: no outcome {event[0]!r} in this audit (one of {', '.join(sorted(known))})"
+        )
     rows = tuple(r for r in counter.rows(confidence) if r.by in ("all", *by))
     funnels = tuple(f for f in (funnel_of(counter, fld, event) for fld in FUNNEL_FIELDS) if f)
     chart = cusum = None

@@ -105,6 +105,8 @@ def write_audit(
         raise SedreportError("audit: give -o FILE.pdf and/or --csv FILE.csv")
     if job.register_path and os.path.isdir(job.register_path):
         raise SedreportError(f"--register: {job.register_path} is a folder, not a file")
+    if job.records_dir and not os.path.isdir(job.records_dir):
+        raise SedreportError(f"--records: {job.records_dir} is not a folder")
     run, audit = audit_of_register(job, job.criteria_path, on_start=on_start, on_result=on_result)
     other = None
     if job.compare_criteria:
