@@ -157,3 +157,19 @@ def test_cusum_signals_a_drift():
     c = bernoulli_cusum(y, np.full(600, 0.05), odds_ratio=2.0, threshold=4.5)
     assert c.signals and c.signals[0] >= 380
     assert math.isfinite(c.path[-1])
+
+
+def test_risk_adjusted_expected_risk_per_cell():
+    from sedreport.audit.report import RISK_CELL_MIN_SESSIONS, expected_risks
+
+    # Cell A has 30 sessions with 3 events (its own rate, 0.1); cell B has 10 with 4 (fewer
+    # than the minimum, so the overall rate 7/40 is used).
+    assert RISK_CELL_MIN_SESSIONS == 20
+    cells = [("2", "moderate")] * 30 + [("3", "deep")] * 10
+    y = [1, 1, 1] + [0] * 27 + [1] * 4 + [0] * 6
+    p = expected_risks(cells, y)
+    assert np.allclose(p[:30], 0.1) and np.allclose(p[30:], 7 / 40)
+    # Steiner et al. (2000): with risk adjustment an event in a high-risk case scores less.
+    c = bernoulli_cusum([1, 1], [0.1, 0.5], odds_ratio=2.0, risk_adjusted=True)
+    assert c.path[0] == pytest.approx(math.log(2) - math.log(1.1))
+    assert c.path[1] - c.path[0] == pytest.approx(math.log(2) - math.log(1.5))
