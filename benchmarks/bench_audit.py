@@ -7,8 +7,12 @@ Generates N cohort sessions of 30 minutes (`sedreport demo --cohort`, recipe wit
 register: cold (everything analysed) and warm (nothing new). Peak memory is the maximum
 resident set of the audit process (the register writer) and of its largest worker.
 
-Measured on the shared 2-core machine (figures in the module docstring are updated by hand):
-see the commit message of the run.
+Measured on the shared 2-core machine (2026-12-05, --jobs 2, 20-25 Hz CO2, PDF and CSV written):
+
+- 1,000 sessions: generated in 77.6 s; cold audit 63.6 s; warm audit 1.72 s; peak RSS of the
+  audit process or a worker 104 MiB; register 1.8 MB.
+- 200 sessions: cold 21.8 s (machine busier); warm 1.80 s; peak RSS 105 MiB: memory does not grow
+  with the number of sessions.
 """
 
 from __future__ import annotations

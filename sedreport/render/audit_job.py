@@ -8,13 +8,13 @@ from __future__ import annotations
 
 import os
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 from pathlib import Path
 
 from sedreport.audit.register import Register
 from sedreport.audit.report import Audit, build_audit
-from sedreport.audit.runner import RunSummary, run_audit
+from sedreport.audit.runner import RunSummary, find_session_folders, run_audit
 from sedreport.errors import SedreportError
 from sedreport.render.atomic import atomic_output
 from sedreport.render.audit_csv import audit_csv
@@ -107,6 +107,8 @@ def write_audit(
         raise SedreportError(f"--register: {job.register_path} is a folder, not a file")
     if job.records_dir and not os.path.isdir(job.records_dir):
         raise SedreportError(f"--records: {job.records_dir} is not a folder")
+    # Bad arguments are refused before the register is created (nothing left behind).
+    job = replace(job, arguments=tuple(str(f) for f in find_session_folders(job.arguments)))
     run, audit = audit_of_register(job, job.criteria_path, on_start=on_start, on_result=on_result)
     other = None
     if job.compare_criteria:
