@@ -72,3 +72,16 @@ def test_pdf_pages_render_to_png(audit, tmp_path):
     render_audit(audit, out)
     subprocess.run(["pdftoppm", "-r", "40", "-png", str(out), str(tmp_path / "p")], check=True)
     assert len(list(tmp_path.glob("p-*.png"))) >= 3
+
+
+def test_pdf_says_so_when_the_charted_outcome_never_happened(tmp_path):
+    from audit_fixtures import record
+
+    quiet = build_audit([record("Q1"), record("Q2", month="2026-02")])
+    out = tmp_path / "quiet.pdf"
+    render_audit(quiet, out)
+    text = " ".join(pdf_text(out).split())
+    assert (
+        "No session in this audit had adverse event, any tier, so there is nothing to chart" in text
+    )
+    assert "Funnel plot by" not in text

@@ -180,7 +180,7 @@ def _strata(audit: Audit, width: float) -> list:
             rows.append([cell(x) for x in line])
         out += [
             Paragraph(f"By {FIELD_WORDS[field]}", styles.H2),
-            grid_table(rows, scaled([1.8, 0.9, *[1.5] * len(STRATUM_COLUMNS)], width)),
+            grid_table(rows, scaled([2.2, 0.9, *[1.5] * len(STRATUM_COLUMNS)], width)),
         ]
     if out:
         out.insert(0, Paragraph("Rates by stratum (k/n: per 1,000, 95 % Wilson)", styles.H1))
@@ -193,6 +193,14 @@ def _strata(audit: Audit, width: float) -> list:
 def _charts(audit: Audit, width: float) -> list:
     what = _outcome_words(*audit.event)
     out: list = [Paragraph(f"Funnel plots and control charts: {what}", styles.H1)]
+    if audit.p_chart is None or sum(audit.p_chart.k) == 0:
+        return out + [
+            _p(
+                f"No session in this audit had {what}, so there is nothing to chart; the upper "
+                "bound of its rate is in the table above. Choose another outcome with --event "
+                "(an episode kind, or adverse_event:TIER)."
+            )
+        ]
     for f in audit.funnels:
         outside = f.outside[0.998]
         note = ", ".join(outside) if outside else "none"
