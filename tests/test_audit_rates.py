@@ -148,3 +148,22 @@ def test_build_audit_charts_the_chosen_outcome():
     funnel = next(f for f in a.funnels if f.field == "provider")
     assert dict(zip(funnel.groups, funnel.k, strict=True)) == {"RN-01": 2, "RN-02": 1, "RN-21": 0}
     assert [c.session_id for c in a.cases] == ["S1", "S4"]
+
+
+def test_register_migrates_an_older_schema_keeping_its_rows(tmp_path, monkeypatch):
+    import sedreport.audit.register as register
+
+    path = tmp_path / "r.sqlite"
+    with Register(path) as reg:
+        reg.store("k0", small_cohort()[0])
+    # A future version 2 adds a column; opening the version-1 file migrates it in place.
+    migrations = {**register.MIGRATIONS, 2: ("ALTER TABLE sessions ADD COLUMN reviewed TEXT",)}
+    monkeypatch.setattr(register, "MIGRATIONS", migrations)
+    monkeypatch.setattr(register, "SCHEMA_VERSION", 2)
+    with Register(path) as reg:
+        assert reg.schema_version() == 2
+        assert reg.known_keys(["k0"]) == {"k0"}
+        assert "reviewed" in [c[1] for c in reg._db.execute("PRAGMA table_info(sessions)")]
+        reg.store("k1", small_cohort()[1])  # storing still works after the migration
+        reg.select(["k0", "k1"])
+        assert [r["session_id"] for r in reg.records()] == ["S1", "S2"]

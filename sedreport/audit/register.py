@@ -6,7 +6,10 @@ transaction per session: a run killed at any moment loses nothing already stored
 no half-written rows. WAL mode and a busy timeout let two audits share one register.
 
 The schema is plain SQL (TEXT, INTEGER, REAL; primary keys; no SQLite-only types) with a
-schema version and a migration list. No patient name is stored (the session format has none);
+schema version and a migration list: a change of schema adds ``MIGRATIONS[n + 1]`` (plain
+``ALTER TABLE`` / ``CREATE`` statements) and raises :data:`SCHEMA_VERSION`; opening an older
+register applies the missing steps in one transaction, and a newer one is refused. Writes name
+their columns, so added columns do not break them. No patient name is stored (the session format has none);
 ``patient.ref`` is not stored either.
 """
 
@@ -79,6 +82,12 @@ META_COLUMNS: tuple[tuple[str, str], ...] = (
     ("provider", "provider"),
 )
 
+#: Columns written by :meth:`Register.store`, named so that a later migration may add columns.
+SESSION_COLUMNS: tuple[str, ...] = (
+    "key", "session_id", "path", "status", "error",
+    *(c for c, _ in META_COLUMNS),
+    "criteria_name", "criteria_sha256", "sedreport_version", "summary_json",
+)  # fmt: skip
 BUSY_TIMEOUT_MS = 60_000
 
 
@@ -192,9 +201,19 @@ class Register:
             db.execute("DELETE FROM episodes WHERE key = ?", (key,))
             db.execute("DELETE FROM events WHERE key = ?", (key,))
             db.execute("DELETE FROM sessions WHERE key = ?", (key,))
-            db.execute(f"INSERT INTO sessions VALUES ({', '.join('?' * 17)})", values)
-            db.executemany("INSERT INTO episodes VALUES (?, ?, ?, ?, ?, ?, ?, ?)", episodes)
-            db.executemany("INSERT INTO events VALUES (?, ?, ?, ?, ?)", events)
+            cols = ", ".join(SESSION_COLUMNS)
+            marks = ", ".join("?" * len(SESSION_COLUMNS))
+            db.execute(f"INSERT INTO sessions ({cols}) VALUES ({marks})", values)
+            db.executemany(
+                "INSERT INTO episodes (key, episode_id, kind, severity, event_id, start_s, "
+                "duration_s, detail_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
+                episodes,
+            )
+            db.executemany(
+                "INSERT INTO events (key, event_id, severity, start_s, detail_json) "
+                "VALUES (?, ?, ?, ?, ?)",
+                events,
+            )
             db.execute("COMMIT")
         except BaseException:
             db.execute("ROLLBACK")
