@@ -87,6 +87,10 @@ def _load(folder: str):
     return session
 
 
+#: Fields an audit can be stratified by (sedreport.audit.rates.STRATA; kept here so that
+#: ``--help`` does not import the audit stack).
+_AUDIT_STRATA = ("area", "procedure", "asa_class", "target_depth", "regimen", "provider", "month")
+
 #: Shared options, defined once.
 criteria_option = click.option(
     "--criteria",
@@ -287,6 +291,141 @@ def criteria_command(file: str | None) -> None:
     from sedreport.render.terminal import criteria_text
 
     click.echo(criteria_text(load_criteria(file)), nl=False)
+
+
+@cli.command("audit")
+@click.argument("sessions", nargs=-1, required=True, type=click.Path(path_type=str))
+@click.option(
+    "-o",
+    "--output",
+    type=click.Path(path_type=str),
+    default=None,
+    callback=_suffix(".pdf", "the audit is a PDF file"),
+    help="Audit PDF to write (tables, funnel plots, control charts, case list, exclusions).",
+)
+@click.option(
+    "--csv",
+    "csv_path",
+    type=click.Path(path_type=str),
+    default=None,
+    callback=_suffix(".csv", "the rates table is a CSV file"),
+    help="Rates CSV: one row per stratum, kind and tier (a stable contract).",
+)
+@click.option(
+    "--since", type=click.DateTime(["%Y-%m-%d"]), default=None, help="First day (YYYY-MM-DD)."
+)
+@click.option(
+    "--until", type=click.DateTime(["%Y-%m-%d"]), default=None, help="Last day (YYYY-MM-DD)."
+)
+@click.option(
+    "--by",
+    "by",
+    multiple=True,
+    type=click.Choice(list(_AUDIT_STRATA), case_sensitive=False),
+    help="Stratify the rates by this field (repeatable; default: all of them).",
+)
+@click.option(
+    "--event",
+    "event",
+    default="adverse_event",
+    show_default=True,
+    help="Outcome of the funnel plots and control charts: an episode kind or "
+    "adverse_event[:minimal|minor|moderate|sentinel].",
+)
+@click.option(
+    "--register",
+    "register_path",
+    type=click.Path(dir_okay=False, path_type=str),
+    default="sedreport-register.sqlite",
+    show_default=True,
+    help="SQLite register of analysed sessions (re-runs analyse only new or changed ones).",
+)
+@click.option(
+    "--jobs",
+    type=click.IntRange(min=1),
+    default=None,
+    help="Worker processes (default: all cores).",
+)
+@click.option("--scheduler", default=None, help="Dask scheduler address (sedreport[cluster]).")
+@criteria_option
+@click.option(
+    "--compare-criteria",
+    "compare_path",
+    type=click.Path(exists=True, dir_okay=False, path_type=str),
+    default=None,
+    help="Analyse the same sessions under a second criteria file and show both sets of rates.",
+)
+@click.option(
+    "--reference",
+    "reference_path",
+    type=click.Path(exists=True, dir_okay=False, path_type=str),
+    default=None,
+    help="YAML of published reference rates to show beside the local rates.",
+)
+@click.option(
+    "--risk-adjust", is_flag=True, help="Risk-adjust the CUSUM by ASA class and target depth."
+)
+@click.option(
+    "--records",
+    "records_dir",
+    type=click.Path(file_okay=False, path_type=str),
+    default=None,
+    help="Write the PDF record of every case on the case list into this folder.",
+)
+def audit_command(
+    sessions,
+    output,
+    csv_path,
+    since,
+    until,
+    by,
+    event,
+    register_path,
+    jobs,
+    scheduler,
+    criteria_path,
+    compare_path,
+    reference_path,
+    risk_adjust,
+    records_dir,
+) -> None:
+    """Committee audit of SESSIONS (session folders, or folders searched for them): rates
+    per 1,000 sedations with 95 % Wilson and exact intervals, by stratum; funnel plots,
+    p-chart and CUSUM; the case list of moderate and sentinel events; exclusions.
+
+    The audit reviews recorded data; it is not a league table, an alarm or a diagnosis.
+    Small numbers and case mix limit every comparison; local sedation policy and licensed
+    practice decide.
+    """
+    from sedreport.audit.report import parse_event
+    from sedreport.render.audit_job import AuditJob, write_audit
+
+    job = AuditJob(
+        arguments=tuple(sessions),
+        register_path=register_path,
+        pdf_path=output,
+        csv_path=csv_path,
+        criteria_path=criteria_path,
+        compare_criteria=compare_path,
+        by=tuple(b.lower() for b in by) or _AUDIT_STRATA,
+        event=parse_event(event),
+        since=since.date() if since else None,
+        until=until.date() if until else None,
+        jobs=jobs,
+        scheduler=scheduler,
+        records_dir=records_dir,
+        reference_path=reference_path,
+        risk_adjust=risk_adjust,
+    )
+    from sedreport.render.audit_progress import AuditProgress
+
+    progress = AuditProgress()
+    done = write_audit(job, on_start=progress.start, on_result=progress.result)
+    run = done.run
+    click.echo(
+        f"audited {len(run.inputs)} session(s): {run.analysed} analysed now, {run.reused} "
+        f"from the register, {len(done.audit.excluded)} excluded; wrote {', '.join(done.written)}"
+    )
 
 
 @cli.command("demo", cls=DemoCommand)

@@ -49,6 +49,7 @@ def runs(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, dict[str, tupl
         "criteria": ["criteria", str(good / "session.yaml")],
         "record": ["record", str(good), "-o", "x.txt"],
         "demo": ["demo", "demo-out", "--scenario", "nope"],
+        "audit": ["audit", str(root / "nowhere"), "--csv", "rates.csv"],
     }
     out = {}
     for command, argv in argvs.items():
@@ -82,6 +83,7 @@ EXPECTED = {
     "record": "error: Invalid value for '-o' / '--output': 'x.txt' does not end in .pdf; "
     "the record is a PDF file",
     "demo": "error: demo: unknown scenario 'nope' (known: ",
+    "audit": "error: {root}/nowhere: not a session folder or a folder of sessions",
 }
 
 

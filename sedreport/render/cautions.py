@@ -27,21 +27,22 @@ def _read(path: Path) -> dict:
     return data
 
 
-def load_cautions(path: Path = CAUTIONS_FILE) -> list[tuple[str, str]]:
-    """(title, text) pairs of the caution file, for the PDF record.
+def load_cautions(path: Path = CAUTIONS_FILE, key: str = "cautions") -> list[tuple[str, str]]:
+    """(title, text) pairs of the caution file: ``cautions`` for the PDF record,
+    ``audit_cautions`` for the committee audit.
 
     Raises
     ------
     SedreportError
-        When the file is missing or not of the form ``cautions: [{title, text}, ...]``.
+        When the file is missing or not of the form ``<key>: [{title, text}, ...]``.
     """
-    entries = _read(path).get("cautions")
+    entries = _read(path).get(key)
     if not isinstance(entries, list) or not entries:
-        raise SedreportError(f"{path}:cautions: expected a non-empty list of title/text")
+        raise SedreportError(f"{path}:{key}: expected a non-empty list of title/text")
     out = []
     for i, e in enumerate(entries):
         if not isinstance(e, dict) or not e.get("title") or not e.get("text"):
-            raise SedreportError(f"{path}:cautions[{i}]: needs a title and a text")
+            raise SedreportError(f"{path}:{key}[{i}]: needs a title and a text")
         out.append((str(e["title"]), " ".join(str(e["text"]).split())))
     return out
 

@@ -39,8 +39,14 @@ class SectionBreak(CondPageBreak):
         return 0, 0
 
 
-def numbered_canvas(session_id: str, version: str) -> type[rl_canvas.Canvas]:
-    """A canvas class that writes the provenance footer with the final page count."""
+def numbered_canvas(
+    session_id: str, version: str, head: str | None = None
+) -> type[rl_canvas.Canvas]:
+    """A canvas class that writes the provenance footer with the final page count.
+
+    ``head`` is the running head on the right (default ``Sedation record <session id>``).
+    """
+    head_text = head if head is not None else f"Sedation record {session_id}"
 
     class _NumberedCanvas(rl_canvas.Canvas):
         def __init__(self, *args: object, **kwargs: object) -> None:
@@ -79,7 +85,7 @@ def numbered_canvas(session_id: str, version: str) -> type[rl_canvas.Canvas]:
             self.drawRightString(
                 width - margin,
                 height - margin + 12,
-                styles.pdf_text(f"Sedation record {session_id}"),
+                styles.pdf_text(head_text),
             )
             self.restoreState()
 

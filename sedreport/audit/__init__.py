@@ -1,0 +1,1 @@
+"""Committee audit: the register of analysed sessions, rate statistics, control charts."""
