@@ -20,8 +20,11 @@ EPISODE_KINDS: tuple[str, ...] = (
     "hypoventilation",
     "desaturation",
     "rebreathing",
-    "obstruction",
+    "sloped_plateau",
     "signal_loss",
+    "low_amplitude",
+    "etco2_fall",
+    "co2_signal_absent",
 )
 #: World SIVA adverse-event tiers (Mason et al., Br J Anaesth 2012), lowest first.
 EVENT_TIERS: tuple[str, ...] = ("minimal", "minor", "moderate", "sentinel")
