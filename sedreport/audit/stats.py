@@ -85,14 +85,18 @@ def exact_interval(k: int, n: int, confidence: float = 0.95) -> tuple[float, flo
 def rule_of_three(n: int) -> float:
     """Approximate upper 95 % bound of a rate when 0 events were seen in ``n``: ``3 / n``.
 
-    Hanley & Lippman-Hand, JAMA 1983 ("If nothing goes wrong, is everything all right?").
+    Hanley & Lippman-Hand, JAMA 1983 ("If nothing goes wrong, is everything all right?"). The
+    approximation is meant for n of about 30 and more; a proportion is never above 1, so for
+    n < 3 the bound is 1.
 
     Examples
     --------
     >>> rule_of_three(300)
     0.01
+    >>> rule_of_three(1)
+    1.0
     """
-    return 3.0 / n if n > 0 else math.nan
+    return min(3.0 / n, 1.0) if n > 0 else math.nan
 
 
 def proportion(k: int, n: int, confidence: float = 0.95) -> Proportion:
