@@ -234,11 +234,15 @@ def test_overlapping_streams_warn_nothing(tmp_path):
     ],
     ids=["output_txt", "json_txt"],
 )
-def test_record_output_names_must_fit_their_format(tmp_path, args, line):
+def test_record_output_names_must_fit_their_format(tmp_path, monkeypatch, args, line):
     folder = make_session(tmp_path / "in")
-    with CliRunner().isolated_filesystem(temp_dir=tmp_path) as cwd:
-        result = CliRunner().invoke(cli, ["record", str(folder), *args])
-        assert list(Path(cwd).iterdir()) == []
+    cwd = tmp_path / "out"
+    cwd.mkdir()
+    monkeypatch.chdir(
+        cwd
+    )  # relative output names land here (click's isolated_filesystem is deprecated)
+    result = CliRunner().invoke(cli, ["record", str(folder), *args])
+    assert list(cwd.iterdir()) == []
     assert_refused(result, line)
 
 
@@ -311,7 +315,7 @@ def _ignored_at_top(name: str) -> bool:
     )
 
 
-def test_readme_first_command_writes_an_ignored_record(tmp_path):
+def test_readme_first_command_writes_an_ignored_record(tmp_path, monkeypatch):
     """The README's first command must leave no untracked file in a fresh clone: the record it
     writes at the top of the checkout matches .gitignore, and the command works."""
     words = _readme_first_command()
@@ -320,7 +324,7 @@ def test_readme_first_command_writes_an_ignored_record(tmp_path):
     assert "/" not in output and output.endswith(".pdf")
     assert _ignored_at_top(output), f"{output} is not ignored by .gitignore"
     assert not _ignored_at_top("README.md") and not _ignored_at_top("pyproject.toml")
-    with CliRunner().isolated_filesystem(temp_dir=tmp_path):
-        result = CliRunner().invoke(cli, ["record", str(REPO / session), "-o", output])
-        assert result.exit_code == 0, result.output
-        assert Path(output).read_bytes()[:5] == b"%PDF-"
+    monkeypatch.chdir(tmp_path)  # click's isolated_filesystem is deprecated from click 8.5
+    result = CliRunner().invoke(cli, ["record", str(REPO / session), "-o", output])
+    assert result.exit_code == 0, result.output
+    assert Path(output).read_bytes()[:5] == b"%PDF-"
