@@ -83,13 +83,17 @@ def test_dose_rows_and_totals(texts):
     infusion has no per-kg rate.
     """
     first = norm(texts[0])
-    assert "09:17:00 propofol 40 mg iv bolus 0.556 mg/kg 40 mg" in first  # 40/72 = 0.5556
-    assert "09:16:00 fentanyl 50 mcg iv bolus 0.694 mcg/kg 50 mcg" in first
-    assert "09:37:00 propofol 4 mg/kg/h iv infusion rate 4 mg/kg/h 80 mg" in first
-    assert "09:47:00 propofol 0 mg/kg/h iv infusion stop - 128 mg" in first
-    assert "propofol 3 80 mg 48 mg 128 mg 1.78 mg/kg" in first
-    assert "fentanyl 1 50 mcg 0 mcg 50 mcg 0.694 mcg/kg" in first
-    assert "up to 09:50:20 (end of sedration)".replace("sedration", "sedation") in first
+    assert "D2 09:17:00 propofol 40 mg iv bolus 40 mg 0.556 mg/kg 40 mg" in first  # 40/72
+    assert "D1 09:16:00 fentanyl 50 mcg iv bolus 50 mcg 0.694 mcg/kg 50 mcg" in first
+    # 4 mg/kg/h x 72 kg = 288 mg/h; written rate kept beside it, per kg 4.00 (three figures)
+    assert "D5 09:37:00 propofol 4 mg/kg/h iv infusion rate 288 mg/h 4.00 mg/kg/h 80 mg" in first
+    assert "48 mg over 10 min 00 s" in first  # 288 mg/h x 600 s / 3600 s/h = 48 mg
+    assert "D6 09:47:00 propofol 0 mg/kg/h iv infusion stop stopped - 128 mg" in first
+    assert "propofol 3 80 mg 48 mg 128 mg 1.78 mg/kg" in first + norm(texts[1])
+    assert "fentanyl 1 50 mcg 0 mcg 50 mcg 0.694 mcg/kg" in first + norm(texts[1])
+    assert "up to 09:50:20 (end of sedration)".replace("sedration", "sedation") in first + norm(
+        texts[1]
+    )
 
 
 def _episode_page(texts) -> int:

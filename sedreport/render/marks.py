@@ -2,7 +2,9 @@
 
 Boluses are filled triangles, infusion rate lines open triangles with a bar while the infusion
 runs, interventions open diamonds with a short code; a faint vertical line carries each mark
-down through the strips. Crowded labels are joined rather than overprinted.
+down through the strips. Every dose mark is labelled with its key (``D1``, ``D2``...), the same
+key as its row of the dose table, so a crowded label never names the wrong dose: crowded keys
+are joined (``D2, D3``) rather than overprinted.
 """
 
 from __future__ import annotations
@@ -15,6 +17,25 @@ from sedreport.render.plot import Panel, label
 
 #: Lane height in points (one lane for doses, one for interventions).
 LANE_PT = 10.0
+
+
+def dose_keys(session) -> dict:
+    """Key of every dose line, ``D1``, ``D2``... in time order (file line breaks ties).
+
+    The same keys label the marks of the strips and close-ups and the rows of the dose table.
+
+    Examples
+    --------
+    >>> from datetime import datetime, timezone
+    >>> from sedreport.session import Dose, Session
+    >>> a = Dose(60.0, "propofol", 40, "mg", "iv", "bolus", 40.0, 0.0, 3)
+    >>> b = Dose(0.0, "fentanyl", 50, "mcg", "iv", "bolus", 0.05, 0.0, 2)
+    >>> s = Session("K", datetime(2026, 1, 1, tzinfo=timezone.utc), doses=(a, b))
+    >>> [dose_keys(s)[d] for d in (a, b)]
+    ['D2', 'D1']
+    """
+    ordered = sorted(session.doses, key=lambda d: (d.time_s, d.line))
+    return {d: f"D{i}" for i, d in enumerate(ordered, start=1)}
 
 
 def lane_marks(
@@ -46,7 +67,8 @@ def _dose_marks(
     analysis, p: Panel, g: Group, lane_y: float, bottom: float, top: float, right_edge: float
 ) -> None:
     marks = []
-    for d in analysis.session.doses:
+    keys = dose_keys(analysis.session)
+    for d in sorted(analysis.session.doses, key=lambda d: (d.time_s, d.line)):
         if not (p.t0_s <= d.time_s <= p.t1_s):
             continue
         x = float(p.tx(d.time_s))
@@ -69,17 +91,10 @@ def _dose_marks(
                     strokeWidth=0.6,
                 )
             )
-        marks.append((x, mark_text(d)))
-    for x, text in cluster_labels(marks, 4.5, right_edge):
+        marks.append((x, keys[d]))
+    for x, text in cluster_labels(marks, 4.5, right_edge, char_pt=2.8):
         g.add(label(x, lane_y + 0.3, text, 5.4))
     _infusion_bars(analysis, p, g, lane_y - 1.6)
-
-
-def mark_text(d) -> str:
-    """Label of a dose mark: drug as written with the dose and its unit, ``stop`` for rate 0."""
-    if d.kind != "bolus" and d.rate_mg_per_h == 0:
-        return f"{d.drug} stop"
-    return f"{d.drug} {d.dose:g} {d.unit}"
 
 
 def cluster_labels(
