@@ -78,3 +78,13 @@ def test_recovery_says_plainly_when_nothing_was_logged():
     assert "No discharge was logged." in said
     bare = recovery_sentences(replace(s, events=()))
     assert bare[0] == "No procedure end was logged."
+
+
+def test_strips_mark_procedure_lines_scores_and_oxygen(analysis, tmp_path):
+    """The strips name the procedure start and end lines, and mark the depth score (DS 3),
+    the oxygen-flow step (O2 2) and the recovery score (RS 9) in the actions lane."""
+    path = tmp_path / "strips.pdf"
+    render_record(analysis, path)
+    strips = norm(" ".join(t for t in page_texts(path) if "Row " in t))
+    for words in ("procedure start", "procedure end", "DS 3", "O2 2", "RS 9"):
+        assert words in strips, words

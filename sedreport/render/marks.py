@@ -4,7 +4,9 @@ Boluses are filled triangles, infusion rate lines open triangles with a bar whil
 runs, interventions open diamonds with a short code; a faint vertical line carries each mark
 down through the strips. Every dose mark is labelled with its key (``D1``, ``D2``...), the same
 key as its row of the dose table, so a crowded label never names the wrong dose: crowded keys
-are joined (``D2, D3``) rather than overprinted.
+are joined (``D2, D3``) rather than overprinted. Depth scores, recovery scores and oxygen-flow
+steps are small open squares in the actions lane (``DS 3``, ``RS 9``, ``O2 2``); procedure start
+and end are solid vertical lines through the strips, dividing sedation, procedure and recovery.
 """
 
 from __future__ import annotations
@@ -17,6 +19,18 @@ from sedreport.render.plot import Panel, label
 
 #: Lane height in points (one lane for doses, one for interventions).
 LANE_PT = 10.0
+
+#: Codes of the logged values marked in the actions lane, before the value (``DS 3``).
+VALUE_CODES: dict[str, str] = {
+    "depth_score": "DS",
+    "recovery_score": "RS",
+    "oxygen_flow": "O2",
+}
+#: Words beside the procedure lines.
+PROCEDURE_WORDS: dict[str, str] = {
+    "procedure_start": "procedure start",
+    "procedure_end": "procedure end",
+}
 
 
 def dose_keys(session) -> dict:
@@ -60,7 +74,30 @@ def lane_marks(
     right_edge = p.x + p.width + right_pt
     _dose_marks(analysis, p, g, dose_y, bottom, top, right_edge)
     _intervention_marks(analysis, p, g, int_y, bottom, top, right_edge)
+    _procedure_lines(analysis, p, g, bottom, top)
     return g
+
+
+def _procedure_lines(analysis, p: Panel, g: Group, bottom: float, top: float) -> None:
+    """Solid lines at procedure start and end through the strips, named inside the top strip
+    (right of the line; left of it when the words would run past the plot)."""
+    for e in analysis.session.events:
+        if e.event not in PROCEDURE_WORDS or not (p.t0_s <= e.time_s <= p.t1_s):
+            continue
+        x = float(p.tx(e.time_s))
+        g.add(Line(x, bottom, x, top, strokeColor=styles.INK, strokeWidth=1.3))
+        text = PROCEDURE_WORDS[e.event]
+        width = len(text) * 2.7
+        if x + 2 + width <= p.x + p.width:
+            g.add(label(x + 2, top - 6.5, text, 5.4, color=styles.INK))
+        else:
+            g.add(label(x - 2, top - 6.5, text, 5.4, anchor="end", color=styles.INK))
+
+
+def value_code(e) -> str:
+    """Actions-lane label of a logged value: ``DS 3`` (depth score), ``O2 2`` (L/min)."""
+    value = "" if e.value is None else f" {e.value:g}"
+    return VALUE_CODES[e.event] + value
 
 
 def _dose_marks(
@@ -162,10 +199,23 @@ def _intervention_marks(
     analysis, p: Panel, g: Group, lane_y: float, bottom: float, top: float, right_edge: float
 ) -> None:
     marks = []
-    for e in analysis.session.interventions:
+    shown = [e for e in analysis.session.events if e.is_intervention or e.event in VALUE_CODES]
+    for e in sorted(shown, key=lambda e: (e.time_s, e.line)):
         if not (p.t0_s <= e.time_s <= p.t1_s):
             continue
         x = float(p.tx(e.time_s))
+        if e.event in VALUE_CODES:
+            c = lane_y + 2.2
+            g.add(
+                Polygon(
+                    [x - 2.0, c - 2.0, x + 2.0, c - 2.0, x + 2.0, c + 2.0, x - 2.0, c + 2.0],
+                    fillColor=None,
+                    strokeColor=styles.INK,
+                    strokeWidth=0.6,
+                )
+            )
+            marks.append((x, value_code(e)))
+            continue
         g.add(
             Line(
                 x,
