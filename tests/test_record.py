@@ -199,16 +199,26 @@ def test_hashes_on_last_page(analysis, texts):
         assert f"{src.role} {src.file} {src.sha256}" in last
     # SHA-256 of the criteria file recomputed from its bytes (FIPS 180-4 via hashlib)
     assert hashlib.sha256(DEFAULT_CRITERIA_FILE.read_bytes()).hexdigest() in last
-    assert "Reviewing clinician (name)" in last and "Signature" in last
 
 
-def test_signoff_is_not_prefilled(record):
+def _signoff_page(texts) -> int:
+    return next(i for i, t in enumerate(texts) if "Review and sign-off" in t)
+
+
+def test_two_signature_blocks(texts):
+    page = norm(texts[_signoff_page(texts)])
+    assert "Sedation provider (name)" in page and "Reviewing clinician (name)" in page
+    assert page.count("Signature") == 2 and page.count("Date and time") == 2
+
+
+def test_signoff_is_not_prefilled(record, texts):
     import pdfplumber
 
     with pdfplumber.open(record) as pdf:
-        page = pdf.pages[-1]
+        page = pdf.pages[_signoff_page(texts)]
         words = page.extract_words()
-        labels = [w for w in words if w["text"] in ("Role", "Signature")]
+        labels = [w for w in words if w["text"] in ("Role", "Signature", "time", "(name)")]
+        assert len(labels) == 7  # two names, one role, two signatures, two dates
         for lab in labels:
             same_line = [
                 w for w in words if abs(w["top"] - lab["top"]) < 3 and w["x0"] > lab["x1"] + 2

@@ -2,7 +2,8 @@
 
 Sections in order: header, summary with attention sentences, adverse events, episode table and
 doses (the first page a nurse reads), the events-and-notes log and the recovery, then the trend strips (never on the first page), episode close-ups, data
-quality, caution notes, and sign-off and provenance on the last page. Every page carries
+quality, caution notes, the two signature blocks, and the appendix (criteria table) with the
+provenance on the last page. Every page carries
 "session id · page x of y · sedreport version" and explains the abbreviations it shows.
 """
 
@@ -32,7 +33,7 @@ from sedreport.render.provenance import (
     provenance_flowables,
     signoff_flowables,
 )
-from sedreport.render.quality import quality_flowables
+from sedreport.render.quality import criteria_flowables, quality_flowables
 from sedreport.render.shape import shape_overlay
 from sedreport.render.styles import para_text
 from sedreport.render.tables import dose_flowables, episode_flowables
@@ -159,10 +160,12 @@ def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | No
     story += closeup_flowables(analysis, width_pt)
     story += quality_flowables(analysis, width_pt)
     story.append(KeepTogether(caution_flowables(analysis)))
-    # sign-off and provenance stay together, so the hashes are always on the last page
-    closing = signoff_flowables(width_pt) + [Spacer(1, 10)]
-    closing += provenance_flowables(analysis, width_pt, source_date_epoch)
-    story.append(KeepTogether(closing))
+    story.append(KeepTogether(signoff_flowables(width_pt)))
+    # the appendix (criteria table) and provenance close the record; the hashes stay on the
+    # last page
+    story += criteria_flowables(analysis, width_pt)
+    story.append(Spacer(1, 10))
+    story.append(KeepTogether(provenance_flowables(analysis, width_pt, source_date_epoch)))
     return story
 
 

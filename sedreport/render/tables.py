@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 
+from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Paragraph, Table, TableStyle
 
 from sedreport.analysis import Analysis
@@ -25,9 +26,26 @@ from sedreport.render.marks import dose_keys
 from sedreport.render.styles import para_text
 from sedreport.session import Dose, Session
 
+#: Cell styles that wrap on words only: a word is never broken mid-word ("moderat/e"), so
+#: column widths must fit the longest word. Hashes (``styles.MONO``) may still break.
+_WORD_WRAPPED: dict[str, ParagraphStyle] = {}
+
+
+def word_wrapped(style: ParagraphStyle) -> ParagraphStyle:
+    """``style`` with long-word splitting off (text cells); the monospaced style unchanged."""
+    if style is styles.MONO:
+        return style
+    if style.name not in _WORD_WRAPPED:
+        _WORD_WRAPPED[style.name] = ParagraphStyle(
+            f"{style.name}_words", parent=style, splitLongWords=0
+        )
+    return _WORD_WRAPPED[style.name]
+
 
 def cell(text: object, style=styles.CELL) -> Paragraph:
-    """A table cell paragraph (escaped, WinAnsi-safe); ``<br/>`` joins given lines."""
+    """A table cell paragraph (escaped, WinAnsi-safe), wrapped on words only; ``<br/>`` joins
+    given lines."""
+    style = word_wrapped(style)
     if isinstance(text, list | tuple):
         return Paragraph("<br/>".join(para_text(t) for t in text) or DASH, style)
     return Paragraph(para_text(text), style)
