@@ -128,7 +128,7 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         f"{round(e1.duration_s)} s",
         # an apnoea row says how long there was no breath, not a rate
         f"no breath for {round(e1.duration_s)} s SpO2 min 88 %",
-        f"propofol 20 mg, {(onset1 - 1150) / 60:.1f} min before",
+        f"D4 propofol 20 mg, {(onset1 - 1150) / 60:.1f} min before",
         f"verbal stimulus at +{round(1215 - onset1)} s airway repositioning at "
         f"+{round(1222 - onset1)} s",
         f"{round(e1.duration_s)} s",
@@ -148,14 +148,14 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         "-",
         "A1 minor",
     ]
-    # E3: 300 s = 5 min 00 s; the 20 mg bolus at 1150 s was 650 s = 10.8 min before 1800 s
+    # E3: 300 s = 5 min 00 s; the 20 mg bolus at 1150 s was 650 s = 10.8 min before 1800 s (D4: the fourth dose line)
     assert cells["E3"] == [
         "E3",
         "hypoventilation (bradypnoeic)",
         clock(1800),
         "5 min 00 s",
         "EtCO2 max 55 mmHg RR min 6.0 /min",
-        "propofol 20 mg, 10.8 min before",
+        "D4 propofol 20 mg, 10.8 min before",
         "none",
         "5 min 00 s",
         "-",

@@ -308,12 +308,24 @@ def worst_lines(ep: Episode) -> list[str]:
     return lines or [DASH]
 
 
-def dose_lines(ep: Episode) -> list[str]:
+def key_lookup(session: Session) -> dict[tuple[float, str], str]:
+    """Dose keys (``D1``...) by (time on the session clock, drug), for linked doses."""
+    return {(d.time_s, d.drug): k for d, k in dose_keys(session).items()}
+
+
+def dose_lines(ep: Episode, keys: dict[tuple[float, str], str] | None = None) -> list[str]:
     """Drugs around the onset: boluses in the look-back (amount as written, minutes before),
     infusions running at onset (rate as written and in mg/h), doses given during the episode,
-    and each drug's cumulative mg and mg/kg at onset."""
+    and each drug's cumulative mg and mg/kg at onset. With ``keys`` (:func:`key_lookup`), a
+    bolus or dose during starts with its dose-table key (``D2 propofol 40 mg``)."""
+    keys = keys or {}
+
+    def key(d) -> str:
+        k = keys.get((d.time_s, d.drug))
+        return f"{k} " if k else ""
+
     lines = [
-        f"{d.drug} {d.dose:g} {d.unit}, {d.seconds_before_onset / 60:.1f} min before"
+        f"{key(d)}{d.drug} {d.dose:g} {d.unit}, {d.seconds_before_onset / 60:.1f} min before"
         for d in ep.preceding_doses
         if d.kind == "bolus"
     ] or ["no bolus in look-back"]
@@ -322,7 +334,7 @@ def dose_lines(ep: Episode) -> list[str]:
         for i in ep.infusions_at_onset
     ]
     lines += [
-        f"during: {d.drug} {d.dose:g} {d.unit} {offset_text(-d.seconds_before_onset)}"
+        f"during: {key(d)}{d.drug} {d.dose:g} {d.unit} {offset_text(-d.seconds_before_onset)}"
         for d in ep.doses_during
     ]
     lines += [f"total at onset: {total_text(t)}" for t in ep.cumulative_at_onset]
@@ -370,7 +382,7 @@ def episode_row(session: Session, ep: Episode) -> list:
         cell(clock_text(session, ep.start_s)),
         cell(duration_text(ep.duration_s)),
         cell(worst_lines(ep)),
-        cell(dose_lines(ep)),
+        cell(dose_lines(ep, key_lookup(session))),
         cell(intervention_lines(ep)),
         cell(duration_text(ep.time_to_resolution_s)),
         cell(lead),
