@@ -85,3 +85,16 @@ def test_infusion_shows_mg_per_h_and_its_total(record):
     assert "infusion rate 288 mg/h" in text
     assert "48 mg over 10 min 00 s" in text
     assert "propofol 3 80 mg 48 mg 128 mg 1.78 mg/kg" in text
+
+
+def test_reversal_drug_is_a_dose_like_any_other(tmp_path):
+    """Naloxone 0.4 mg at 1300 s is the fifth dose line in time order (after 240, 300, 900,
+    1150 s): key D5, amount 0.4 mg, 0.4 / 72 = 0.005556 -> 0.00556 mg/kg (three figures)."""
+    a = rf.make_analysis()
+    reversal = Dose(1300.0, "naloxone", 0.4, "mg", "iv", "bolus", 0.4, 0.0, 9)
+    s = replace(a.session, doses=(*a.session.doses, reversal))
+    path = tmp_path / "reversal.pdf"
+    render_record(replace(a, session=s), path)
+    texts = page_texts(path)
+    assert "naloxone 0.4 mg iv bolus 0.4 mg 0.00556 mg/kg 0.4 mg" in _table_rows(texts)["D5"]
+    assert "D5" in _strip_keys(path)
