@@ -83,13 +83,17 @@ def test_dose_rows_and_totals(texts):
     infusion has no per-kg rate.
     """
     first = norm(texts[0])
-    assert "09:17:00 propofol 40 mg iv bolus 0.556 mg/kg 40 mg" in first  # 40/72 = 0.5556
-    assert "09:16:00 fentanyl 50 mcg iv bolus 0.694 mcg/kg 50 mcg" in first
-    assert "09:37:00 propofol 4 mg/kg/h iv infusion rate 4 mg/kg/h 80 mg" in first
-    assert "09:47:00 propofol 0 mg/kg/h iv infusion stop - 128 mg" in first
-    assert "propofol 3 80 mg 48 mg 128 mg 1.78 mg/kg" in first
-    assert "fentanyl 1 50 mcg 0 mcg 50 mcg 0.694 mcg/kg" in first
-    assert "up to 09:50:20 (end of sedration)".replace("sedration", "sedation") in first
+    assert "D2 09:17:00 propofol 40 mg iv bolus 40 mg 0.556 mg/kg 40 mg" in first  # 40/72
+    assert "D1 09:16:00 fentanyl 50 mcg iv bolus 50 mcg 0.694 mcg/kg 50 mcg" in first
+    # 4 mg/kg/h x 72 kg = 288 mg/h; written rate kept beside it, per kg 4.00 (three figures)
+    assert "D5 09:37:00 propofol 4 mg/kg/h iv infusion rate 288 mg/h 4.00 mg/kg/h 80 mg" in first
+    assert "48 mg over 10 min 00 s" in first  # 288 mg/h x 600 s / 3600 s/h = 48 mg
+    assert "D6 09:47:00 propofol 0 mg/kg/h iv infusion stop stopped - 128 mg" in first
+    assert "propofol 3 80 mg 48 mg 128 mg 1.78 mg/kg" in first + norm(texts[1])
+    assert "fentanyl 1 50 mcg 0 mcg 50 mcg 0.694 mcg/kg" in first + norm(texts[1])
+    assert "up to 09:50:20 (end of sedration)".replace("sedration", "sedation") in first + norm(
+        texts[1]
+    )
 
 
 def _episode_page(texts) -> int:
@@ -124,7 +128,7 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         f"{round(e1.duration_s)} s",
         # an apnoea row says how long there was no breath, not a rate
         f"no breath for {round(e1.duration_s)} s SpO2 min 88 %",
-        f"propofol 20 mg, {(onset1 - 1150) / 60:.1f} min before",
+        f"D4 propofol 20 mg, {(onset1 - 1150) / 60:.1f} min before",
         f"verbal stimulus at +{round(1215 - onset1)} s airway repositioning at "
         f"+{round(1222 - onset1)} s",
         f"{round(e1.duration_s)} s",
@@ -144,14 +148,14 @@ def test_every_episode_row_with_its_numbers(analysis, record, texts):
         "-",
         "A1 minor",
     ]
-    # E3: 300 s = 5 min 00 s; the 20 mg bolus at 1150 s was 650 s = 10.8 min before 1800 s
+    # E3: 300 s = 5 min 00 s; the 20 mg bolus at 1150 s was 650 s = 10.8 min before 1800 s (D4: the fourth dose line)
     assert cells["E3"] == [
         "E3",
         "hypoventilation (bradypnoeic)",
         clock(1800),
         "5 min 00 s",
         "EtCO2 max 55 mmHg RR min 6.0 /min",
-        "propofol 20 mg, 10.8 min before",
+        "D4 propofol 20 mg, 10.8 min before",
         "none",
         "5 min 00 s",
         "-",
@@ -195,16 +199,26 @@ def test_hashes_on_last_page(analysis, texts):
         assert f"{src.role} {src.file} {src.sha256}" in last
     # SHA-256 of the criteria file recomputed from its bytes (FIPS 180-4 via hashlib)
     assert hashlib.sha256(DEFAULT_CRITERIA_FILE.read_bytes()).hexdigest() in last
-    assert "Reviewing clinician (name)" in last and "Signature" in last
 
 
-def test_signoff_is_not_prefilled(record):
+def _signoff_page(texts) -> int:
+    return next(i for i, t in enumerate(texts) if "Review and sign-off" in t)
+
+
+def test_two_signature_blocks(texts):
+    page = norm(texts[_signoff_page(texts)])
+    assert "Sedation provider (name)" in page and "Reviewing clinician (name)" in page
+    assert page.count("Signature") == 2 and page.count("Date and time") == 2
+
+
+def test_signoff_is_not_prefilled(record, texts):
     import pdfplumber
 
     with pdfplumber.open(record) as pdf:
-        page = pdf.pages[-1]
+        page = pdf.pages[_signoff_page(texts)]
         words = page.extract_words()
-        labels = [w for w in words if w["text"] in ("Role", "Signature")]
+        labels = [w for w in words if w["text"] in ("Role", "Signature", "time", "(name)")]
+        assert len(labels) == 7  # two names, one role, two signatures, two dates
         for lab in labels:
             same_line = [
                 w for w in words if abs(w["top"] - lab["top"]) < 3 and w["x0"] > lab["x1"] + 2

@@ -74,9 +74,28 @@ def amount_text(amount: float, unit: str) -> str:
     return f"{significant_text(amount, 4)} {unit}"
 
 
+#: The one precision rule of weight-based amounts and rates in the record (dose table, totals,
+#: episode table): three significant figures, trailing zeros kept, so every per-kg figure
+#: shows the same precision (``0.610 mcg/kg`` beside ``0.366 mg/kg``, ``4.50 mg/kg/h``).
+PER_KG_FIGURES: int = 3
+
+
 def per_kg_text(value: float, unit: str) -> str:
-    """A weight-based dose or rate to three significant figures (``1.78 mg/kg``)."""
-    return f"{significant_text(value)} {unit}"
+    """A weight-based dose or rate to :data:`PER_KG_FIGURES` significant figures, trailing
+    zeros kept (``1.78 mg/kg``, ``0.610 mcg/kg``, ``4.50 mg/kg/h``)."""
+    return f"{figures_text(value, PER_KG_FIGURES)} {unit}"
+
+
+def figures_text(value: float, figures: int) -> str:
+    """``value`` to ``figures`` significant figures, trailing zeros kept (``0.61`` -> ``0.610``
+    at three figures); whole-number digits are never cut."""
+    if not math.isfinite(value):
+        return DASH
+    if value == 0:
+        return "0"
+    digits = max(figures - 1 - math.floor(math.log10(abs(value))), 0)
+    exact = Decimal(repr(float(value)))
+    return f"{exact.quantize(Decimal(1).scaleb(-digits), rounding=ROUND_HALF_UP):f}"
 
 
 def words(name: str) -> str:

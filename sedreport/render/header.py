@@ -15,10 +15,11 @@ from sedreport.render.fmt import (
 )
 from sedreport.render.glossary import TermMark, standard_terms
 from sedreport.render.styles import para_text
+from sedreport.render.tables import cell
 
 
 def _cell(text: object, style=styles.CELL) -> Paragraph:
-    return Paragraph(para_text(text), style)
+    return cell(text, style)
 
 
 def _grid(pairs: list[tuple[str, str]], width_pt: float, columns: int = 3) -> Table:
@@ -69,10 +70,27 @@ def header_pairs(analysis: Analysis) -> list[tuple[str, str]]:
         ("Height", number_text(p.height_cm, 0, "cm")),
         ("ASA class", f"ASA {p.asa_class}" if p.asa_class is not None else DASH),
         ("Conditions", ", ".join(words(c) for c in p.conditions) or "none recorded"),
-        ("Sedation by", team.sedation_provider or DASH),
+        ("Oxygen at start", oxygen),
+        ("Outcome", outcome_text(s.outcome)),
+        ("Sedation provider", team.sedation_provider or "not stated (signs at the end)"),
         ("Proceduralist", team.proceduralist or DASH),
-        ("Oxygen", oxygen),
+        ("Reviewer", getattr(team, "reviewer", None) or "signs at the end of the record"),
     ]
+
+
+def outcome_text(outcome: tuple[str, ...]) -> str:
+    """The outcome words of ``session.yaml`` (World SIVA outcomes), ``none recorded`` without."""
+    return ", ".join(words(o) for o in outcome) or "none recorded"
+
+
+def criteria_sentence(analysis: Analysis) -> str:
+    """One line naming the criteria file and the first 12 hex digits of its SHA-256; the full
+    table is in the appendix at the end."""
+    c = analysis.criteria
+    return (
+        f"Criteria: {c.name} ({c.path or 'built in'}), SHA-256 {c.sha256[:12]}...; every "
+        "threshold with its source is in the appendix at the end."
+    )
 
 
 def header_flowables(analysis: Analysis, width_pt: float) -> list:
@@ -88,7 +106,8 @@ def header_flowables(analysis: Analysis, width_pt: float) -> list:
         styles.SUBTITLE,
     )
     grid = _grid(header_pairs(analysis), width_pt)
-    return [title, sub, grid, TermMark(standard_terms("ASA", "UTC"))]
+    crit = Paragraph(para_text(criteria_sentence(analysis)), styles.SMALL)
+    return [title, sub, grid, crit, TermMark(standard_terms("ASA", "UTC", "SHA-256"))]
 
 
 def _counts_text(counts: dict | None, name=words) -> str:

@@ -85,4 +85,8 @@ def codes_text() -> str:
     codes = ", ".join(
         f"{code} {name.replace('_', ' ')}" for name, code in styles.INTERVENTION_CODES.items()
     )
-    return f"Intervention codes: {codes}."
+    return (
+        f"Intervention codes: {codes}. Open squares in the actions lane: DS depth score, RS "
+        "recovery score (scale in the events-and-notes log), O2 oxygen flow in L/min. D1, D2... "
+        "key the doses to the dose table; solid vertical lines mark procedure start and end."
+    )

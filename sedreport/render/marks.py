@@ -2,7 +2,11 @@
 
 Boluses are filled triangles, infusion rate lines open triangles with a bar while the infusion
 runs, interventions open diamonds with a short code; a faint vertical line carries each mark
-down through the strips. Crowded labels are joined rather than overprinted.
+down through the strips. Every dose mark is labelled with its key (``D1``, ``D2``...), the same
+key as its row of the dose table, so a crowded label never names the wrong dose: crowded keys
+are joined (``D2, D3``) rather than overprinted. Depth scores, recovery scores and oxygen-flow
+steps are small open squares in the actions lane (``DS 3``, ``RS 9``, ``O2 2``); procedure start
+and end are solid vertical lines through the strips, dividing sedation, procedure and recovery.
 """
 
 from __future__ import annotations
@@ -15,6 +19,37 @@ from sedreport.render.plot import Panel, label
 
 #: Lane height in points (one lane for doses, one for interventions).
 LANE_PT = 10.0
+
+#: Codes of the logged values marked in the actions lane, before the value (``DS 3``).
+VALUE_CODES: dict[str, str] = {
+    "depth_score": "DS",
+    "recovery_score": "RS",
+    "oxygen_flow": "O2",
+}
+#: Words beside the procedure lines.
+PROCEDURE_WORDS: dict[str, str] = {
+    "procedure_start": "procedure start",
+    "procedure_end": "procedure end",
+}
+
+
+def dose_keys(session) -> dict:
+    """Key of every dose line, ``D1``, ``D2``... in time order (file line breaks ties).
+
+    The same keys label the marks of the strips and close-ups and the rows of the dose table.
+
+    Examples
+    --------
+    >>> from datetime import datetime, timezone
+    >>> from sedreport.session import Dose, Session
+    >>> a = Dose(60.0, "propofol", 40, "mg", "iv", "bolus", 40.0, 0.0, 3)
+    >>> b = Dose(0.0, "fentanyl", 50, "mcg", "iv", "bolus", 0.05, 0.0, 2)
+    >>> s = Session("K", datetime(2026, 1, 1, tzinfo=timezone.utc), doses=(a, b))
+    >>> [dose_keys(s)[d] for d in (a, b)]
+    ['D2', 'D1']
+    """
+    ordered = sorted(session.doses, key=lambda d: (d.time_s, d.line))
+    return {d: f"D{i}" for i, d in enumerate(ordered, start=1)}
 
 
 def lane_marks(
@@ -39,14 +74,38 @@ def lane_marks(
     right_edge = p.x + p.width + right_pt
     _dose_marks(analysis, p, g, dose_y, bottom, top, right_edge)
     _intervention_marks(analysis, p, g, int_y, bottom, top, right_edge)
+    _procedure_lines(analysis, p, g, bottom, top)
     return g
+
+
+def _procedure_lines(analysis, p: Panel, g: Group, bottom: float, top: float) -> None:
+    """Solid lines at procedure start and end through the strips, named inside the top strip
+    (right of the line; left of it when the words would run past the plot)."""
+    for e in analysis.session.events:
+        if e.event not in PROCEDURE_WORDS or not (p.t0_s <= e.time_s <= p.t1_s):
+            continue
+        x = float(p.tx(e.time_s))
+        g.add(Line(x, bottom, x, top, strokeColor=styles.INK, strokeWidth=1.3))
+        text = PROCEDURE_WORDS[e.event]
+        width = len(text) * 2.7
+        if x + 2 + width <= p.x + p.width:
+            g.add(label(x + 2, top - 6.5, text, 5.4, color=styles.INK))
+        else:
+            g.add(label(x - 2, top - 6.5, text, 5.4, anchor="end", color=styles.INK))
+
+
+def value_code(e) -> str:
+    """Actions-lane label of a logged value: ``DS 3`` (depth score), ``O2 2`` (L/min)."""
+    value = "" if e.value is None else f" {e.value:g}"
+    return VALUE_CODES[e.event] + value
 
 
 def _dose_marks(
     analysis, p: Panel, g: Group, lane_y: float, bottom: float, top: float, right_edge: float
 ) -> None:
     marks = []
-    for d in analysis.session.doses:
+    keys = dose_keys(analysis.session)
+    for d in sorted(analysis.session.doses, key=lambda d: (d.time_s, d.line)):
         if not (p.t0_s <= d.time_s <= p.t1_s):
             continue
         x = float(p.tx(d.time_s))
@@ -69,17 +128,10 @@ def _dose_marks(
                     strokeWidth=0.6,
                 )
             )
-        marks.append((x, mark_text(d)))
-    for x, text in cluster_labels(marks, 4.5, right_edge):
+        marks.append((x, keys[d]))
+    for x, text in cluster_labels(marks, 4.5, right_edge, char_pt=2.8):
         g.add(label(x, lane_y + 0.3, text, 5.4))
     _infusion_bars(analysis, p, g, lane_y - 1.6)
-
-
-def mark_text(d) -> str:
-    """Label of a dose mark: drug as written with the dose and its unit, ``stop`` for rate 0."""
-    if d.kind != "bolus" and d.rate_mg_per_h == 0:
-        return f"{d.drug} stop"
-    return f"{d.drug} {d.dose:g} {d.unit}"
 
 
 def cluster_labels(
@@ -147,10 +199,23 @@ def _intervention_marks(
     analysis, p: Panel, g: Group, lane_y: float, bottom: float, top: float, right_edge: float
 ) -> None:
     marks = []
-    for e in analysis.session.interventions:
+    shown = [e for e in analysis.session.events if e.is_intervention or e.event in VALUE_CODES]
+    for e in sorted(shown, key=lambda e: (e.time_s, e.line)):
         if not (p.t0_s <= e.time_s <= p.t1_s):
             continue
         x = float(p.tx(e.time_s))
+        if e.event in VALUE_CODES:
+            c = lane_y + 2.2
+            g.add(
+                Polygon(
+                    [x - 2.0, c - 2.0, x + 2.0, c - 2.0, x + 2.0, c + 2.0, x - 2.0, c + 2.0],
+                    fillColor=None,
+                    strokeColor=styles.INK,
+                    strokeWidth=0.6,
+                )
+            )
+            marks.append((x, value_code(e)))
+            continue
         g.add(
             Line(
                 x,

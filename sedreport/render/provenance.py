@@ -51,15 +51,11 @@ def caution_flowables(analysis: Analysis) -> list:
     return out
 
 
-def signoff_flowables(width_pt: float) -> list:
-    """Empty lines for the reviewing clinician; nothing is pre-filled."""
-    labels = ("Reviewing clinician (name)", "Role", "Signature", "Date and time", "Comments")
+def _signature_block(labels: tuple[str, ...], heights: tuple[float, ...], width_pt: float):
+    """Labels with empty ruled lines beside them; nothing is pre-filled."""
     rows = [[cell(lab, styles.CELL_BOLD), ""] for lab in labels]
     table = Table(
-        rows,
-        colWidths=[0.28 * width_pt, 0.72 * width_pt],
-        rowHeights=[20, 20, 26, 20, 40],
-        hAlign="LEFT",
+        rows, colWidths=[0.28 * width_pt, 0.72 * width_pt], rowHeights=list(heights), hAlign="LEFT"
     )
     table.setStyle(
         TableStyle(
@@ -70,10 +66,29 @@ def signoff_flowables(width_pt: float) -> list:
             ]
         )
     )
+    return table
+
+
+def signoff_flowables(width_pt: float) -> list:
+    """Two signature blocks, the sedation provider's and the reviewing clinician's; nothing is
+    pre-filled."""
+    provider = _signature_block(
+        ("Sedation provider (name)", "Signature", "Date and time"), (20, 26, 20), width_pt
+    )
+    reviewer = _signature_block(
+        ("Reviewing clinician (name)", "Role", "Signature", "Date and time", "Comments"),
+        (20, 20, 26, 20, 40),
+        width_pt,
+    )
     return [
         Paragraph("Review and sign-off", styles.H1),
+        Paragraph("Sedation provider", styles.H2),
+        Paragraph("I gave and monitored the sedation documented in this record.", styles.BODY),
+        provider,
+        Spacer(1, 8),
+        Paragraph("Reviewing clinician", styles.H2),
         Paragraph("I have reviewed this record against the clinical notes.", styles.BODY),
-        table,
+        reviewer,
     ]
 
 

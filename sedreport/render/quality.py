@@ -235,10 +235,11 @@ def criterion_cell(section: str, name: str) -> Paragraph:
 
 
 def criteria_flowables(analysis: Analysis, width_pt: float) -> list:
-    """Criteria file used, with every threshold and its source."""
+    """Appendix: the criteria file used, with every threshold and its source."""
     c = analysis.criteria
     out: list = [
         CondPageBreak(CRITERIA_START_PT),
+        Paragraph("Appendix", styles.H1),
         Paragraph("Criteria used", styles.H2),
         Paragraph(para_text(f"{c.name} ({c.path}) - {c.description}"), styles.BODY),
     ]
@@ -292,7 +293,15 @@ def quality_flowables(analysis: Analysis, width_pt: float) -> list:
             styles.BODY,
         )
     )
-    out += criteria_flowables(analysis, width_pt)
+    out.append(
+        Paragraph(
+            para_text(
+                f"Criteria used: {analysis.criteria.name}; every threshold with its source is "
+                "in the appendix at the end."
+            ),
+            styles.BODY,
+        )
+    )
     return out
 
 

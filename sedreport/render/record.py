@@ -1,9 +1,9 @@
 """The PDF sedation record: :func:`render_record` assembles every section and writes it.
 
 Sections in order: header, summary with attention sentences, adverse events, episode table and
-doses (the
-first page a nurse reads), then the trend strips (never on the first page), episode close-ups, data
-quality, caution notes, and sign-off and provenance on the last page. Every page carries
+doses (the first page a nurse reads), the events-and-notes log and the recovery, then the trend strips (never on the first page), episode close-ups, data
+quality, caution notes, the two signature blocks, and the appendix (criteria table) with the
+provenance on the last page. Every page carries
 "session id · page x of y · sedreport version" and explains the abbreviations it shows.
 """
 
@@ -20,6 +20,7 @@ from sedreport._version import __version__
 from sedreport.analysis import Analysis
 from sedreport.render import closeups, strips, styles
 from sedreport.render.atomic import atomic_output
+from sedreport.render.eventlog import log_flowables, recovery_flowables
 from sedreport.render.events import event_flowables
 from sedreport.render.fmt import clock_text, duration_text, severity_text, words
 from sedreport.render.glossary import TermMark, span_terms, standard_terms
@@ -32,7 +33,7 @@ from sedreport.render.provenance import (
     provenance_flowables,
     signoff_flowables,
 )
-from sedreport.render.quality import quality_flowables
+from sedreport.render.quality import criteria_flowables, quality_flowables
 from sedreport.render.shape import shape_overlay
 from sedreport.render.styles import para_text
 from sedreport.render.tables import dose_flowables, episode_flowables
@@ -153,14 +154,18 @@ def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | No
     story += event_flowables(analysis, width_pt)
     story += episode_flowables(analysis, width_pt)
     story += dose_flowables(analysis, width_pt)
+    story += log_flowables(analysis, width_pt)
+    story += recovery_flowables(analysis)
     story += trend_flowables(analysis, width_pt)
     story += closeup_flowables(analysis, width_pt)
     story += quality_flowables(analysis, width_pt)
     story.append(KeepTogether(caution_flowables(analysis)))
-    # sign-off and provenance stay together, so the hashes are always on the last page
-    closing = signoff_flowables(width_pt) + [Spacer(1, 10)]
-    closing += provenance_flowables(analysis, width_pt, source_date_epoch)
-    story.append(KeepTogether(closing))
+    story.append(KeepTogether(signoff_flowables(width_pt)))
+    # the appendix (criteria table) and provenance close the record; the hashes stay on the
+    # last page
+    story += criteria_flowables(analysis, width_pt)
+    story.append(Spacer(1, 10))
+    story.append(KeepTogether(provenance_flowables(analysis, width_pt, source_date_epoch)))
     return story
 
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 
+from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Paragraph, Table, TableStyle
 
 from sedreport.analysis import Analysis
@@ -21,12 +22,30 @@ from sedreport.render.fmt import (
     words,
 )
 from sedreport.render.glossary import TermMark, dose_terms, standard_terms
+from sedreport.render.marks import dose_keys
 from sedreport.render.styles import para_text
 from sedreport.session import Dose, Session
 
+#: Cell styles that wrap on words only: a word is never broken mid-word ("moderat/e"), so
+#: column widths must fit the longest word. Hashes (``styles.MONO``) may still break.
+_WORD_WRAPPED: dict[str, ParagraphStyle] = {}
+
+
+def word_wrapped(style: ParagraphStyle) -> ParagraphStyle:
+    """``style`` with long-word splitting off (text cells); the monospaced style unchanged."""
+    if style is styles.MONO:
+        return style
+    if style.name not in _WORD_WRAPPED:
+        _WORD_WRAPPED[style.name] = ParagraphStyle(
+            f"{style.name}_words", parent=style, splitLongWords=0
+        )
+    return _WORD_WRAPPED[style.name]
+
 
 def cell(text: object, style=styles.CELL) -> Paragraph:
-    """A table cell paragraph (escaped, WinAnsi-safe); ``<br/>`` joins given lines."""
+    """A table cell paragraph (escaped, WinAnsi-safe), wrapped on words only; ``<br/>`` joins
+    given lines."""
+    style = word_wrapped(style)
     if isinstance(text, list | tuple):
         return Paragraph("<br/>".join(para_text(t) for t in text) or DASH, style)
     return Paragraph(para_text(text), style)
@@ -110,9 +129,38 @@ def _per_kg(d: Dose, unit: str, factor: float, weight: float | None) -> str:
     return per_kg_text(d.rate_mg_per_h * factor / weight, f"{unit}/kg/h")
 
 
-def dose_rows(session: Session) -> list[list]:
-    """One row a dose line: time, drug, dose as written, route, type, per kg, cumulative."""
+def line_end_s(session: Session, d: Dose, end_s: float) -> float:
+    """When an infusion line stops: the next line of the same drug, else ``end_s``."""
+    later = [
+        x.time_s
+        for x in session.doses
+        if x.drug == d.drug and x.kind == "infusion" and (x.time_s, x.line) > (d.time_s, d.line)
+    ]
+    return min(later) if later else max(end_s, d.time_s)
+
+
+def amount_lines(session: Session, d: Dose, end_s: float) -> list[str]:
+    """Absolute amount of a dose line: a bolus in its drug's unit, an infusion in mg/h with
+    what that line gave until the next line of the drug (or ``end_s``)."""
+    unit, factor = display_unit([x for x in session.doses if x.drug == d.drug])
+    if d.kind == "bolus":
+        return [amount_text(d.amount_mg * factor, unit)]
+    if d.rate_mg_per_h == 0:
+        return ["stopped"]
+    stop_s = line_end_s(session, d, end_s)
+    given = d.rate_mg_per_h * (stop_s - d.time_s) / 3600.0 * factor
+    return [
+        f"{significant_text(d.rate_mg_per_h, 3)} mg/h",
+        f"{amount_text(given, unit)} over {duration_text(stop_s - d.time_s)}",
+    ]
+
+
+def dose_rows(session: Session, end_s: float | None = None) -> list[list]:
+    """One row a dose line: key, time, drug, dose as written, route, type, absolute amount
+    (mg/h and amount given for an infusion line), per kg, cumulative."""
     weight = session.patient.weight_kg
+    end = session.span_s()[1] if end_s is None else end_s
+    keys = dose_keys(session)
     rows = []
     for d in sorted(session.doses, key=lambda x: (x.time_s, x.line)):
         unit, factor = display_unit([x for x in session.doses if x.drug == d.drug])
@@ -124,11 +172,13 @@ def dose_rows(session: Session) -> list[list]:
         )
         rows.append(
             [
+                cell(keys[d], styles.CELL_BOLD),
                 cell(clock_text(session, d.time_s)),
                 cell(d.drug),
                 cell(f"{d.dose:g} {d.unit}"),
                 cell(d.route or DASH),
                 cell(kind),
+                cell(amount_lines(session, d, end)),
                 cell(_per_kg(d, unit, factor, weight)),
                 cell(amount_text(cumulative, unit)),
             ]
@@ -173,18 +223,38 @@ def dose_flowables(analysis: Analysis, width_pt: float) -> list:
     if not s.doses:
         out.append(Paragraph("The dose log holds no doses.", styles.BODY))
         return out
+    end_s, why = totals_end_s(analysis)
     head = [
         cell(h, styles.CELL_BOLD)
-        for h in ("Time", "Drug", "Dose as written", "Route", "Type", "Per kg", "Cumulative")
+        for h in (
+            "Key",
+            "Time",
+            "Drug",
+            "Dose as written",
+            "Route",
+            "Type",
+            "Amount",
+            "Per kg",
+            "Cumulative",
+        )
     ]
     out.append(
+        Paragraph(
+            para_text(
+                "D1, D2... are the keys of the dose marks on the trend strips and close-ups. "
+                "An infusion line runs at its rate until the next line of the drug (or "
+                f"{clock_text(s, end_s)}, {why}); 'Amount' is what it gave in that time."
+            ),
+            styles.SMALL_KEEP,
+        )
+    )
+    out.append(
         grid_table(
-            [head] + dose_rows(s),
-            scaled([1, 1.3, 1.3, 0.7, 1.1, 1.3, 1.3], width_pt),
+            [head] + dose_rows(s, end_s),
+            scaled([0.4, 0.85, 1.0, 1.15, 0.5, 1.0, 1.95, 1.1, 0.9], width_pt),
             terms=dose_terms(s.doses),
         )
     )
-    end_s, why = totals_end_s(analysis)
     out.append(Paragraph("Totals per drug", styles.H2))
     out.append(
         Paragraph(
@@ -238,12 +308,24 @@ def worst_lines(ep: Episode) -> list[str]:
     return lines or [DASH]
 
 
-def dose_lines(ep: Episode) -> list[str]:
+def key_lookup(session: Session) -> dict[tuple[float, str], str]:
+    """Dose keys (``D1``...) by (time on the session clock, drug), for linked doses."""
+    return {(d.time_s, d.drug): k for d, k in dose_keys(session).items()}
+
+
+def dose_lines(ep: Episode, keys: dict[tuple[float, str], str] | None = None) -> list[str]:
     """Drugs around the onset: boluses in the look-back (amount as written, minutes before),
     infusions running at onset (rate as written and in mg/h), doses given during the episode,
-    and each drug's cumulative mg and mg/kg at onset."""
+    and each drug's cumulative mg and mg/kg at onset. With ``keys`` (:func:`key_lookup`), a
+    bolus or dose during starts with its dose-table key (``D2 propofol 40 mg``)."""
+    keys = keys or {}
+
+    def key(d) -> str:
+        k = keys.get((d.time_s, d.drug))
+        return f"{k} " if k else ""
+
     lines = [
-        f"{d.drug} {d.dose:g} {d.unit}, {d.seconds_before_onset / 60:.1f} min before"
+        f"{key(d)}{d.drug} {d.dose:g} {d.unit}, {d.seconds_before_onset / 60:.1f} min before"
         for d in ep.preceding_doses
         if d.kind == "bolus"
     ] or ["no bolus in look-back"]
@@ -252,7 +334,7 @@ def dose_lines(ep: Episode) -> list[str]:
         for i in ep.infusions_at_onset
     ]
     lines += [
-        f"during: {d.drug} {d.dose:g} {d.unit} {offset_text(-d.seconds_before_onset)}"
+        f"during: {key(d)}{d.drug} {d.dose:g} {d.unit} {offset_text(-d.seconds_before_onset)}"
         for d in ep.doses_during
     ]
     lines += [f"total at onset: {total_text(t)}" for t in ep.cumulative_at_onset]
@@ -263,9 +345,9 @@ def total_text(t: DrugTotal) -> str:
     """A drug's cumulative amount and per-kg amount; under 1 mg in mcg (``50 mcg (0.61
     mcg/kg)``), as doses of such drugs are written."""
     factor, unit = (1000.0, "mcg") if t.cumulative_mg < 1.0 else (1.0, "mg")
-    text = f"{t.drug} {significant_text(t.cumulative_mg * factor)} {unit}"
+    text = f"{t.drug} {amount_text(t.cumulative_mg * factor, unit)}"
     if t.cumulative_mg_per_kg:
-        text += f" ({significant_text(t.cumulative_mg_per_kg * factor)} {unit}/kg)"
+        text += f" ({per_kg_text(t.cumulative_mg_per_kg * factor, f'{unit}/kg')})"
     return text
 
 
@@ -300,7 +382,7 @@ def episode_row(session: Session, ep: Episode) -> list:
         cell(clock_text(session, ep.start_s)),
         cell(duration_text(ep.duration_s)),
         cell(worst_lines(ep)),
-        cell(dose_lines(ep)),
+        cell(dose_lines(ep, key_lookup(session))),
         cell(intervention_lines(ep)),
         cell(duration_text(ep.time_to_resolution_s)),
         cell(lead),
