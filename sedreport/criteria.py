@@ -194,6 +194,22 @@ class EventCriteria:
     link_window_s: float
 
 
+@dataclass(frozen=True)
+class CardiovascularCriteria:
+    """Hypotension (non-invasive BP readings) and bradycardia (cleaned pulse) findings.
+
+    Each is an absolute limit or a fall of more than a percentage from the patient's baseline
+    (:mod:`sedreport.episodes.cardiovascular`).
+    """
+
+    systolic_below_mmHg: float
+    systolic_fall_pct: float
+    pulse_below_bpm: float
+    pulse_fall_pct: float
+    bradycardia_min_duration_s: float
+    pulse_baseline_window_s: float
+
+
 _SECTIONS: dict[str, type] = {
     "apnoea": ApnoeaCriteria,
     "hypoventilation": HypoventilationCriteria,
@@ -207,6 +223,7 @@ _SECTIONS: dict[str, type] = {
     "signal_loss": SignalLossCriteria,
     "linking": LinkingCriteria,
     "events": EventCriteria,
+    "cardiovascular": CardiovascularCriteria,
 }
 
 # Units and plausible ranges; a value outside is an error, not a clamp.
@@ -295,6 +312,14 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "intervention_before_s": _Spec("s", 0, 600),
     },
     "events": {"link_window_s": _Spec("s", 0, 1800)},
+    "cardiovascular": {
+        "systolic_below_mmHg": _Spec("mmHg", 50, 140),
+        "systolic_fall_pct": _Spec("%", 5, 80),
+        "pulse_below_bpm": _Spec("1/min", 20, 80),
+        "pulse_fall_pct": _Spec("%", 5, 80),
+        "bradycardia_min_duration_s": _Spec("s", 0, 900),
+        "pulse_baseline_window_s": _Spec("s", 10, 3600),
+    },
 }
 
 # (smaller key, larger key, what the relation means)
@@ -327,7 +352,7 @@ class Criteria:
     items : tuple of Criterion
         Every threshold with unit, source and note, in file order.
     apnoea, hypoventilation, desaturation, oximetry, rebreathing, sloped_plateau, etco2_fall,
-    low_amplitude, co2_signal, signal_loss, linking
+    low_amplitude, co2_signal, signal_loss, linking, events, cardiovascular
         Typed sections: ``criteria.apnoea.min_duration_s`` and so on.
     """
 
@@ -348,6 +373,7 @@ class Criteria:
     signal_loss: SignalLossCriteria
     linking: LinkingCriteria
     events: EventCriteria
+    cardiovascular: CardiovascularCriteria
 
     def item(self, key: str) -> Criterion:
         """The :class:`Criterion` of a dotted key such as ``"apnoea.min_duration_s"``."""
