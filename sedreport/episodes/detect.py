@@ -91,7 +91,7 @@ def detect_episodes(
     >>> b = find_breaths(s.co2, gap_s=crit.signal_loss.co2_gap_s)
     >>> eps = detect_episodes(s, b, compute_trends(s, b), estimate_baseline(s, b), crit)
     >>> [(e.id, e.kind, e.start_time[11:19]) for e in eps]
-    [('E1', 'apnoea', '14:35:12')]
+    [('E1', 'apnoea', '14:35:12'), ('E2', 'bradycardia', '14:40:28')]
     """
     return detect_events(session, breaths, trends, baseline, criteria)[0]
 
