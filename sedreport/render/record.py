@@ -26,6 +26,7 @@ from sedreport.render.glossary import TermMark, span_terms, standard_terms
 from sedreport.render.header import header_flowables, summary_flowables
 from sedreport.render.json_text import episodes_json
 from sedreport.render.legend import codes_text, legend
+from sedreport.render.observations import OBS_INTERVAL_MIN, observation_flowables
 from sedreport.render.pages import SectionBreak, numbered_canvas, record_document
 from sedreport.render.provenance import (
     caution_flowables,
@@ -145,7 +146,12 @@ def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
     return out
 
 
-def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | None) -> list:
+def build_story(
+    analysis: Analysis,
+    width_pt: float,
+    source_date_epoch: str | None,
+    obs_interval_min: float = OBS_INTERVAL_MIN,
+) -> list:
     """Every flowable of the record, in page order."""
     story: list = []
     story += header_flowables(analysis, width_pt)
@@ -153,6 +159,7 @@ def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | No
     story += event_flowables(analysis, width_pt)
     story += episode_flowables(analysis, width_pt)
     story += dose_flowables(analysis, width_pt)
+    story += observation_flowables(analysis, width_pt, obs_interval_min)
     story += trend_flowables(analysis, width_pt)
     story += closeup_flowables(analysis, width_pt)
     story += quality_flowables(analysis, width_pt)
@@ -169,6 +176,7 @@ def render_record(
     path: str | os.PathLike[str],
     paper: str = "a4",
     json_path: str | os.PathLike[str] | None = None,
+    obs_interval_min: float = OBS_INTERVAL_MIN,
 ) -> Path:
     """Write the PDF sedation record of one analysed session.
 
@@ -184,6 +192,8 @@ def render_record(
     json_path : path-like, optional
         Also write the episodes JSON there (same content as ``sedreport episodes --format
         json``); written atomically, and only when the PDF succeeds.
+    obs_interval_min : float
+        Charting interval of the observations table, minutes (5 by default).
 
     Returns
     -------
@@ -210,7 +220,7 @@ def render_record(
     """
     width_pt = styles.frame_width(paper)
     epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip() or None
-    story = build_story(analysis, width_pt, epoch)
+    story = build_story(analysis, width_pt, epoch, obs_interval_min)
     json_text = episodes_json(analysis) if json_path is not None else None
     sid = analysis.session.session_id
     target = Path(path)
