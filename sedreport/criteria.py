@@ -12,7 +12,7 @@ from __future__ import annotations
 import functools
 import hashlib
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, fields, replace
 from pathlib import Path
 
 import yaml
@@ -454,7 +454,10 @@ def load_criteria(path: str | Path | None = None) -> Criteria:
     items: list[Criterion] = []
     sections = {}
     for section, cls in _SECTIONS.items():
-        got = _read_section(where, section, doc.get(section))
+        if section in ADDED_SECTIONS and section not in doc and file != DEFAULT_CRITERIA_FILE:
+            got = _default_section(section)
+        else:
+            got = _read_section(where, section, doc.get(section))
         items.extend(got)
         sections[section] = cls(**{c.name: c.value for c in got})
     values = {f"{c.section}.{c.name}": c.value for c in items}
@@ -484,6 +487,17 @@ def default_criteria() -> Criteria:
     1.0
     """
     return load_criteria(None)
+
+
+#: Sections added after criteria files were first written: a file without one takes the shipped
+#: default's section (each item's note says so), so older criteria files stay valid.
+ADDED_SECTIONS: tuple[str, ...] = ("cardiovascular",)
+
+
+def _default_section(section: str) -> list[Criterion]:
+    """The shipped default's items of ``section``, each note saying where they came from."""
+    why = f"(from the shipped default.yaml: this criteria file has no {section} section) "
+    return [replace(c, note=why + c.note) for c in default_criteria().items if c.section == section]
 
 
 def _check_top(where: str, doc: dict) -> None:

@@ -124,3 +124,19 @@ def test_paced_pulse_on_one_value_is_a_reading():
     assert detect_bradycardia(s, _trends(np.full(600, 60.0)), CRIT) == []
     (f,) = detect_bradycardia(s, _trends(np.full(600, 48.0)), CRIT)
     assert (f.start_s, f.end_s) == (0.0, 599.0)
+
+
+def test_older_criteria_file_without_the_section_takes_the_default(tmp_path):
+    import yaml
+
+    from sedreport.criteria import DEFAULT_CRITERIA_FILE
+
+    doc = yaml.safe_load(DEFAULT_CRITERIA_FILE.read_text(encoding="utf-8"))
+    del doc["cardiovascular"]
+    doc["name"] = "older"
+    path = tmp_path / "older.yaml"
+    path.write_text(yaml.safe_dump(doc, sort_keys=False), encoding="utf-8")
+    crit = load_criteria(path)
+    assert crit.cardiovascular == CRIT.cardiovascular
+    item = crit.item("cardiovascular.systolic_below_mmHg")
+    assert item.note.startswith("(from the shipped default.yaml: this criteria file has no")
