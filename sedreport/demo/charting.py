@@ -54,9 +54,10 @@ def assessment_of(spec: CaseSpec) -> dict:
         "baseline": {
             "systolic_mmHg": systolic,
             "diastolic_mmHg": diastolic,
-            "heart_rate_bpm": spec.physiology.hr_bpm,
+            # a paced heart sits on its pacing rate
+            "heart_rate_bpm": round(spec.paced_bpm or spec.physiology.hr_bpm),
             "spo2_pct": 97,
-            "resp_rate_per_min": spec.physiology.rr_per_min,
+            "resp_rate_per_min": round(spec.physiology.rr_per_min),
         },
     }
 
