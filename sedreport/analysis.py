@@ -104,7 +104,7 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
     >>> folder = write_scenario(tempfile.mkdtemp(), "upper_gi_apnoea", seed=0)  # invented
     >>> analysis = sedreport.analyse_session(sedreport.load_session(folder))
     >>> [(e.kind, round(e.duration_s)) for e in analysis.episodes]
-    [('apnoea', 39)]
+    [('apnoea', 39), ('bradycardia', 65)]
     >>> analysis.quality.co2_gap_s, analysis.criteria.name
     (1.0, 'default')
     """

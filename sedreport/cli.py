@@ -184,11 +184,23 @@ def check_command(sessions: tuple[str, ...], fmt: str, criteria_path: str | None
     callback=_suffix(".json", "the episodes file is JSON"),
     help="Also write the episodes JSON (as `sedreport episodes --format json`; ends in .json).",
 )
+@click.option(
+    "--obs-interval-min",
+    type=click.FloatRange(min=1.0, max=60.0),
+    default=5.0,
+    show_default=True,
+    help="Charting interval of the observations table, minutes.",
+)
 def record_command(
-    session: str, output: str, criteria_path: str | None, paper: str, json_path: str | None
+    session: str,
+    output: str,
+    criteria_path: str | None,
+    paper: str,
+    json_path: str | None,
+    obs_interval_min: float,
 ) -> None:
     """Write the PDF sedation record of SESSION: header, summary, adverse events, episodes,
-    doses, trend strips, close-ups, data quality, cautions, sign-off lines and input hashes.
+    doses, observations every --obs-interval-min minutes, trend strips, close-ups, data quality, cautions, sign-off lines and input hashes.
 
     The record documents and reviews recorded data; it is not an alarm or a diagnosis and
     does not replace watching the patient. Local sedation policy and licensed practice decide.
@@ -197,7 +209,9 @@ def record_command(
     from sedreport.render.record import render_record
 
     analysis = analyse_session(_load(session), criteria_path)
-    written = render_record(analysis, output, paper=paper, json_path=json_path)
+    written = render_record(
+        analysis, output, paper=paper, json_path=json_path, obs_interval_min=obs_interval_min
+    )
     click.echo(f"wrote {written}" + (f" and {json_path}" if json_path else ""))
 
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 import functools
 import hashlib
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, fields, replace
 from pathlib import Path
 
 import yaml
@@ -194,6 +194,22 @@ class EventCriteria:
     link_window_s: float
 
 
+@dataclass(frozen=True)
+class CardiovascularCriteria:
+    """Hypotension (non-invasive BP readings) and bradycardia (cleaned pulse) findings.
+
+    Each is an absolute limit or a fall of more than a percentage from the patient's baseline
+    (:mod:`sedreport.episodes.cardiovascular`).
+    """
+
+    systolic_below_mmHg: float
+    systolic_fall_pct: float
+    pulse_below_bpm: float
+    pulse_fall_pct: float
+    bradycardia_min_duration_s: float
+    pulse_baseline_window_s: float
+
+
 _SECTIONS: dict[str, type] = {
     "apnoea": ApnoeaCriteria,
     "hypoventilation": HypoventilationCriteria,
@@ -207,6 +223,7 @@ _SECTIONS: dict[str, type] = {
     "signal_loss": SignalLossCriteria,
     "linking": LinkingCriteria,
     "events": EventCriteria,
+    "cardiovascular": CardiovascularCriteria,
 }
 
 # Units and plausible ranges; a value outside is an error, not a clamp.
@@ -295,6 +312,14 @@ _SCHEMA: dict[str, dict[str, _Spec]] = {
         "intervention_before_s": _Spec("s", 0, 600),
     },
     "events": {"link_window_s": _Spec("s", 0, 1800)},
+    "cardiovascular": {
+        "systolic_below_mmHg": _Spec("mmHg", 50, 140),
+        "systolic_fall_pct": _Spec("%", 5, 80),
+        "pulse_below_bpm": _Spec("1/min", 20, 80),
+        "pulse_fall_pct": _Spec("%", 5, 80),
+        "bradycardia_min_duration_s": _Spec("s", 0, 900),
+        "pulse_baseline_window_s": _Spec("s", 10, 3600),
+    },
 }
 
 # (smaller key, larger key, what the relation means)
@@ -327,7 +352,7 @@ class Criteria:
     items : tuple of Criterion
         Every threshold with unit, source and note, in file order.
     apnoea, hypoventilation, desaturation, oximetry, rebreathing, sloped_plateau, etco2_fall,
-    low_amplitude, co2_signal, signal_loss, linking
+    low_amplitude, co2_signal, signal_loss, linking, events, cardiovascular
         Typed sections: ``criteria.apnoea.min_duration_s`` and so on.
     """
 
@@ -348,6 +373,7 @@ class Criteria:
     signal_loss: SignalLossCriteria
     linking: LinkingCriteria
     events: EventCriteria
+    cardiovascular: CardiovascularCriteria
 
     def item(self, key: str) -> Criterion:
         """The :class:`Criterion` of a dotted key such as ``"apnoea.min_duration_s"``."""
@@ -428,7 +454,10 @@ def load_criteria(path: str | Path | None = None) -> Criteria:
     items: list[Criterion] = []
     sections = {}
     for section, cls in _SECTIONS.items():
-        got = _read_section(where, section, doc.get(section))
+        if section in ADDED_SECTIONS and section not in doc and file != DEFAULT_CRITERIA_FILE:
+            got = _default_section(section)
+        else:
+            got = _read_section(where, section, doc.get(section))
         items.extend(got)
         sections[section] = cls(**{c.name: c.value for c in got})
     values = {f"{c.section}.{c.name}": c.value for c in items}
@@ -458,6 +487,17 @@ def default_criteria() -> Criteria:
     1.0
     """
     return load_criteria(None)
+
+
+#: Sections added after criteria files were first written: a file without one takes the shipped
+#: default's section (each item's note says so), so older criteria files stay valid.
+ADDED_SECTIONS: tuple[str, ...] = ("cardiovascular",)
+
+
+def _default_section(section: str) -> list[Criterion]:
+    """The shipped default's items of ``section``, each note saying where they came from."""
+    why = f"(from the shipped default.yaml: this criteria file has no {section} section) "
+    return [replace(c, note=why + c.note) for c in default_criteria().items if c.section == section]
 
 
 def _check_top(where: str, doc: dict) -> None:

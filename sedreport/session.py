@@ -27,7 +27,17 @@ INTERVENTION_EVENTS: tuple[str, ...] = (
     "intubation",
 )
 #: Non-intervention events of the vocabulary.
-MARKER_EVENTS: tuple[str, ...] = ("procedure_start", "procedure_end", "depth_score", "note")
+#: ``oxygen_flow`` (value = L/min, note = device), ``recovery_score`` (value, note = scale),
+#: ``discharge`` (note = destination) are markers too.
+MARKER_EVENTS: tuple[str, ...] = (
+    "procedure_start",
+    "procedure_end",
+    "depth_score",
+    "oxygen_flow",
+    "recovery_score",
+    "discharge",
+    "note",
+)
 KNOWN_EVENTS: tuple[str, ...] = MARKER_EVENTS + INTERVENTION_EVENTS
 #: Words of the optional ``outcome:`` list of ``session.yaml`` (the outcomes of the World SIVA
 #: adverse sedation event tool, Mason et al., Br J Anaesth 2012, as reproduced in Trials 2022
@@ -124,6 +134,47 @@ class OximetryTrend:
 
 
 @dataclass(frozen=True)
+class BloodPressure:
+    """Non-invasive blood pressure readings (``bp.csv``), mmHg, on the session clock.
+
+    ``mean_mmHg`` is as written, or diastolic + (systolic - diastolic) / 3 where the file gave
+    none (the usual one-third pulse-pressure approximation, common practice).
+    """
+
+    time_s: np.ndarray
+    systolic_mmHg: np.ndarray
+    diastolic_mmHg: np.ndarray
+    mean_mmHg: np.ndarray
+
+
+@dataclass(frozen=True)
+class Baseline:
+    """Pre-sedation observations (``assessment.baseline``); each None when not given."""
+
+    systolic_mmHg: float | None = None
+    diastolic_mmHg: float | None = None
+    heart_rate_bpm: float | None = None
+    spo2_pct: float | None = None
+    resp_rate_per_min: float | None = None
+
+
+@dataclass(frozen=True)
+class Assessment:
+    """Pre-sedation assessment (``session.yaml`` ``assessment``); each None when not given.
+
+    ``allergies`` is None when not recorded and ``()`` for "none known".
+    """
+
+    mallampati: int | None = None
+    fasting_solids_h: float | None = None
+    fasting_clear_h: float | None = None
+    allergies: tuple[str, ...] | None = None
+    consent: bool | None = None
+    notes: str = ""
+    baseline: Baseline | None = None
+
+
+@dataclass(frozen=True)
 class Dose:
     """One line of ``doses.csv``.
 
@@ -183,7 +234,7 @@ class SourceInfo:
     Attributes
     ----------
     role : str
-        ``co2``, ``spo2``, ``doses`` or ``events``; ``session`` for ``session.yaml`` itself
+        ``co2``, ``spo2``, ``doses``, ``events`` or ``bp``; ``session`` for ``session.yaml`` itself
         (listed first by :func:`sedreport.ingest.load_session`, rows = its lines).
     file : str
         Path relative to the session folder.
@@ -283,6 +334,8 @@ class Session:
     #: Blood gas taken at the visit (``session.yaml`` ``blood_gas``), if any.
     blood_gas: BloodGas | None = None
     outcome: tuple[str, ...] = ()
+    assessment: Assessment | None = None
+    bp: BloodPressure | None = None
 
     # ----- derived views -------------------------------------------------------------------
     @property
@@ -306,7 +359,7 @@ class Session:
             if src.span_s is not None:
                 starts.append(src.span_s[0])
                 ends.append(src.span_s[1])
-        for stream in (self.co2, self.spo2):
+        for stream in (self.co2, self.spo2, self.bp):
             if stream is not None and stream.time_s.size:
                 starts.append(float(stream.time_s[0]))
                 ends.append(float(stream.time_s[-1]))
@@ -317,6 +370,33 @@ class Session:
         if not starts:
             return (0.0, 0.0)
         return (min(starts), max(ends))
+
+    def oxygen_course(self) -> tuple[tuple[float | None, float | None, str | None], ...]:
+        """Oxygen flow over time: ``(time_s, flow_l_min, device)`` steps in time order.
+
+        The first step is ``session.yaml``'s ``oxygen`` (time None = from the start); each
+        ``oxygen_flow`` or ``oxygen_increase`` event starts a new step (its value the new flow,
+        an ``oxygen_flow`` note the device; the device carries on when not named).
+
+        Examples
+        --------
+        >>> from datetime import datetime, timezone
+        >>> s = Session("NB-2", datetime(2026, 3, 14, tzinfo=timezone.utc),
+        ...             oxygen=Oxygen("nasal_cannula", 2.0),
+        ...             events=(Event(300.0, "oxygen_flow", 4.0, "face_mask"),))
+        >>> s.oxygen_course()
+        ((None, 2.0, 'nasal_cannula'), (300.0, 4.0, 'face_mask'))
+        """
+        device = self.oxygen.device
+        steps: list[tuple[float | None, float | None, str | None]] = []
+        if self.oxygen.device is not None or self.oxygen.flow_l_min is not None:
+            steps.append((None, self.oxygen.flow_l_min, device))
+        for e in self.events:
+            if e.event in ("oxygen_flow", "oxygen_increase") and e.value is not None:
+                if e.event == "oxygen_flow" and e.note:
+                    device = e.note
+                steps.append((e.time_s, e.value, device))
+        return tuple(steps)
 
     def cumulative_mg(self, drug: str, t_s: float | np.ndarray) -> float | np.ndarray:
         """Total amount of ``drug`` given up to and including ``t_s``, in mg.

@@ -64,6 +64,9 @@ KINDS = {
     "low_amplitude",
     "etco2_fall",
     "co2_signal_absent",
+    # the cardiovascular findings of the sedation-record work (non-invasive BP, pulse)
+    "hypotension",
+    "bradycardia",
 }
 BREATH_COLUMNS = [
     "start_s", "end_s", "etco2_mmHg", "fico2_mmHg", "rr_per_min", "phase3_slope_mmHg_s", "valid",
@@ -521,7 +524,8 @@ def test_clock_offset_applied(ws):
     # every co2/spo2 time moved by +7 s and clock_offset_s = -7 must give the same results.
     ref = _episodes(ws, "ep:desaturation_bag_mask")["episodes"]
     got = _episodes(ws, "ep:shifted")["episodes"]
-    assert [e["kind"] for e in got] == [e["kind"] for e in ref] == ["apnoea", "desaturation"]
+    kinds = ["apnoea", "desaturation", "hypotension"]
+    assert [e["kind"] for e in got] == [e["kind"] for e in ref] == kinds
     for r, g in zip(ref, got, strict=True):
         for k in ("start_s", "end_s", "duration_s", "peak_etco2_mmHg", "min_spo2_pct"):
             assert g[k] == pytest.approx(r[k], abs=1e-6), k

@@ -30,6 +30,8 @@ EPISODE_KINDS = {
     "low_amplitude",
     "etco2_fall",
     "co2_signal_absent",
+    "hypotension",
+    "bradycardia",
 }
 
 
@@ -114,12 +116,12 @@ def test_truth_format_and_time_order(runs):
 def test_planted_episodes_per_scenario(runs):
     expected = {
         "quiet_colonoscopy": [],
-        "upper_gi_apnoea": ["apnoea"],
+        "upper_gi_apnoea": ["apnoea", "bradycardia"],
         "radiology_opioid_hypoventilation": ["hypoventilation"],
         "copd_sloped_plateau": ["sloped_plateau"],
         "rebreathing_under_drapes": ["rebreathing"],
         "gap_and_probe_artefact": ["signal_loss", "low_amplitude"],
-        "desaturation_bag_mask": ["apnoea", "desaturation"],
+        "desaturation_bag_mask": ["apnoea", "desaturation", "hypotension"],
         "bite_block_mouth_breathing": ["low_amplitude", "apnoea", "low_amplitude"],
         "line_off_etco2_fall": ["co2_signal_absent", "etco2_fall"],
         "brief_deep_desaturation": ["apnoea", "desaturation"],
@@ -138,7 +140,10 @@ def test_truth_events_graded_after_world_siva(runs):
     }
     assert got["quiet_colonoscopy"] == [] and got["gap_and_probe_artefact"] == []
     # apnoea > 60 s (sentinel) -> desaturation -> bag-mask ventilation (moderate): one event
-    assert got["desaturation_bag_mask"] == [([0, 1], "sentinel", [])]
+    # ... and a later hypotension (a minor descriptor) is an event of its own
+    assert got["desaturation_bag_mask"] == [([0, 1], "sentinel", []), ([2], "minor", [])]
+    # apnoea not prolonged (minor) + airway repositioning (minor); a vagal bradycardia (minor)
+    assert got["upper_gi_apnoea"] == [([0], "minor", []), ([1], "minor", [])]
     # SpO2 down to 72 % (< 75 % at any time: sentinel) for under 30 s, after a short apnoea
     assert got["brief_deep_desaturation"] == [([0, 1], "sentinel", [])]
     # desaturation 85 % (minor) + suction, oxygen (minor) + unplanned admission (moderate)

@@ -25,6 +25,8 @@ EPISODE_KINDS: tuple[str, ...] = (
     "low_amplitude",
     "etco2_fall",
     "co2_signal_absent",
+    "hypotension",
+    "bradycardia",
 )
 #: World SIVA adverse-event tiers (Mason et al., Br J Anaesth 2012), lowest first.
 EVENT_TIERS: tuple[str, ...] = ("minimal", "minor", "moderate", "sentinel")

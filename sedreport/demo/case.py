@@ -187,6 +187,27 @@ class Spo2Dip:
 
 
 @dataclass(frozen=True)
+class LowBloodPressure:
+    """Systolic and diastolic pressure fall a further ``fall_pct`` % (a trapezoid with
+    ``ramp_s`` ramps) in the window: a hypotension beyond the drugs' background response."""
+
+    start_s: float
+    duration_s: float
+    fall_pct: float
+    ramp_s: float = 30.0
+
+
+@dataclass(frozen=True)
+class SlowPulse:
+    """The pulse is drawn to ``pulse_bpm`` in the window (ramps of ``ramp_s``): a bradycardia."""
+
+    start_s: float
+    duration_s: float
+    pulse_bpm: float
+    ramp_s: float = 10.0
+
+
+@dataclass(frozen=True)
 class CaseSpec:
     """Everything needed to simulate and write one invented session.
 
@@ -198,6 +219,9 @@ class CaseSpec:
     ``spo2_startup_s`` / ``spo2_startup_low_pct`` make the first readings of the file read low
     and climb (a probe acquiring). The defaults leave all of that off.
     ``outcome`` holds the ``session.yaml`` outcome words (empty: no adverse outcome).
+    ``bp_interval_s`` writes ``bp.csv`` with a cuff reading that often (None: no BP file),
+    around the resting ``bp_mmHg`` (systolic, diastolic); ``assessment`` is the
+    ``session.yaml`` assessment block (None: left out).
     """
 
     session_id: str
@@ -228,6 +252,9 @@ class CaseSpec:
     spo2_startup_s: float = 0.0
     spo2_startup_low_pct: float = 0.0
     outcome: tuple[str, ...] = ()
+    bp_interval_s: float | None = None
+    bp_mmHg: tuple[float, float] = (128.0, 78.0)
+    assessment: dict | None = None
 
     def planted_of(self, kind: type) -> list:
         """Planted items of one class, in time order."""

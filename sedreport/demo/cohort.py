@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import os
 from concurrent.futures import ProcessPoolExecutor
+from dataclasses import replace
 from importlib import resources
 from multiprocessing import get_context
 from pathlib import Path
@@ -28,6 +29,7 @@ from sedreport.demo.case import (
     Rebreathing,
     Spo2Artefact,
 )
+from sedreport.demo.charting import charted
 from sedreport.demo.cohort_events import draw_event_extras, unattended
 from sedreport.demo.examples import case_rng, simulate_and_write
 from sedreport.demo.oximetry import OxygenParams
@@ -241,7 +243,19 @@ def _oximeter(recipe: dict, index: int, seed: int, planted: list, limits) -> tup
 
 
 def draw_case(recipe: dict, index: int, seed: int) -> CaseSpec:
-    """The ``index``-th case of a cohort (deterministic in ``seed`` and ``index``)."""
+    """The ``index``-th case of a cohort (deterministic in ``seed`` and ``index``), charted
+    like the scenarios (:func:`sedreport.demo.charting.charted`): a cuff pressure every 3-5
+    min around a resting pressure drawn from its own generator (so the other draws keep
+    their values), an assessment, depth and recovery scores, oxygen weaning, discharge."""
+    spec = _draw_signals_case(recipe, index, seed)
+    bp_rng = case_rng(seed, f"cohort-{index}-bp")
+    systolic = float(round(bp_rng.uniform(115.0, 150.0)))
+    diastolic = float(round(systolic * bp_rng.uniform(0.55, 0.65)))
+    interval_s = float(bp_rng.choice([180.0, 240.0, 300.0]))
+    return charted(replace(spec, bp_mmHg=(systolic, diastolic)), bp_interval_s=interval_s)
+
+
+def _draw_signals_case(recipe: dict, index: int, seed: int) -> CaseSpec:
     rng = case_rng(seed, f"cohort-{index}")
     area = _pick(rng, {k: v["weight"] for k, v in recipe["areas"].items()})
     a = recipe["areas"][area]

@@ -117,7 +117,8 @@ def respiratory_effect(
     """
     rr_sum = np.zeros_like(grid_s)
     co2_sum = np.zeros_like(grid_s)
-    for drug in sorted({d[1] for d in doses}):
+    # Drugs without a profile (a reversal agent such as naloxone) have no sedative effect here.
+    for drug in sorted({d[1] for d in doses} & set(PROFILES)):
         profile = PROFILES[drug]
         unit_effect = _drug_unit_effect(doses, drug, grid_s, weight_kg, profile)
         rr_sum += profile.rr_weight * unit_effect

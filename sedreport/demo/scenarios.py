@@ -13,13 +13,16 @@ from sedreport.demo.case import (
     CaseSpec,
     Gap,
     Hypoventilation,
+    LowBloodPressure,
     MouthBreathing,
     Obstruction,
     Physiology,
     ProbeOff,
     Rebreathing,
+    SlowPulse,
     Spo2Artefact,
 )
+from sedreport.demo.charting import charted
 from sedreport.demo.oximetry import OxygenParams
 from sedreport.demo.scenarios_events import brief_deep_desaturation, outcome_unplanned_admission
 from sedreport.demo.signal_scenarios import bite_block_gastroscopy, line_off_hyperventilation
@@ -69,7 +72,7 @@ def _upper_gi_apnoea() -> CaseSpec:
         session_id="DEMO-UGI-02",
         scenario="upper_gi_apnoea",
         description="Deep sedation gastroscopy; apnoea after a propofol bolus, ended by airway "
-        "repositioning.",
+        "repositioning; later a vagal slowing of the pulse (bradycardia).",
         started="2026-04-21T14:30:00+02:00",
         duration_s=1320.0,
         area="endoscopy",
@@ -97,7 +100,11 @@ def _upper_gi_apnoea() -> CaseSpec:
             (333.0, "airway_repositioning", None, "jaw thrust"),
             (1200.0, "procedure_end", None, ""),
         ),
-        planted=(Apnoea(onset_s=312.0, pause_s=40.0),),
+        # A vagal slowing of the pulse to 44/min while the scope passes (a bradycardia).
+        planted=(
+            Apnoea(onset_s=312.0, pause_s=40.0),
+            SlowPulse(start_s=620.0, duration_s=70.0, pulse_bpm=44.0),
+        ),
         flow_l_min=3.0,
         co2_rate_hz=25.0,
         co2_units="kPa",
@@ -135,6 +142,7 @@ def _radiology_opioid_hypoventilation() -> CaseSpec:
             (600.0, "fentanyl", 50.0, "mcg", "iv"),
             (860.0, "fentanyl", 50.0, "mcg", "iv"),
             (1100.0, "midazolam", 1.0, "mg", "iv"),
+            (1500.0, "naloxone", 100.0, "mcg", "iv"),
         ),
         events=(
             (300.0, "procedure_start", None, ""),
@@ -309,7 +317,8 @@ def _desaturation_bag_mask() -> CaseSpec:
         session_id="DEMO-ERCP-07",
         scenario="desaturation_bag_mask",
         description="Deep propofol sedation for ERCP in an obese patient with OSA; apnoea with "
-        "desaturation needing bag-mask ventilation.",
+        "desaturation needing bag-mask ventilation; later a fall in blood pressure under the "
+        "infusion (hypotension).",
         started="2026-10-08T15:45:00+02:00",
         duration_s=1650.0,
         area="endoscopy",
@@ -347,7 +356,12 @@ def _desaturation_bag_mask() -> CaseSpec:
             (900.0, "note", None, "procedure resumed"),
             (1500.0, "procedure_end", None, ""),
         ),
-        planted=(Apnoea(onset_s=640.0, pause_s=72.0, bag_mask=True, assist_s=60.0),),
+        # Pressure falls under the propofol infusion (a hypotension) from about 1050 s; cuff
+        # readings at 1110 and 1290 s are low, the one at 1470 s after the infusion stops is not.
+        planted=(
+            Apnoea(onset_s=640.0, pause_s=72.0, bag_mask=True, assist_s=60.0),
+            LowBloodPressure(start_s=1050.0, duration_s=300.0, fall_pct=22.0),
+        ),
         flow_l_min=2.0,
         co2_rate_hz=50.0,
         co2_units="percent",
@@ -355,7 +369,7 @@ def _desaturation_bag_mask() -> CaseSpec:
 
 
 SCENARIOS: dict[str, CaseSpec] = {
-    spec.scenario: spec
+    spec.scenario: charted(spec)
     for spec in (
         _quiet_colonoscopy(),
         _upper_gi_apnoea(),

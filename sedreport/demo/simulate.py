@@ -32,6 +32,7 @@ from sedreport.demo.case import (
     Spo2Artefact,
     Spo2Dip,
 )
+from sedreport.demo.haemodynamics import blood_pressure, with_slow_pulse
 from sedreport.demo.monitor import export_like_monitor
 from sedreport.demo.pharmacology import respiratory_effect
 
@@ -78,6 +79,8 @@ class Signals:
     pulse_bpm: np.ndarray
     spo2_artefact: np.ndarray
     apnoea_resume_index: tuple[int, ...]
+    #: Cuff readings: times (s), systolic and diastolic (mmHg); empty without a BP file.
+    bp: tuple[np.ndarray, np.ndarray, np.ndarray] = (np.array([]),) * 3
 
 
 def _trapezoid(grid_s: np.ndarray, start_s: float, end_s: float, ramp_s: float) -> np.ndarray:
@@ -88,10 +91,11 @@ def _trapezoid(grid_s: np.ndarray, start_s: float, end_s: float, ramp_s: float) 
 
 
 def flow_track(spec: CaseSpec, grid_s: np.ndarray) -> np.ndarray:
-    """Oxygen flow in L/min per second; ``oxygen_increase`` events set the new flow."""
+    """Oxygen flow in L/min per second; ``oxygen_increase`` / ``oxygen_flow`` events set the
+    new flow."""
     flow = np.full(grid_s.shape, float(spec.flow_l_min))
     for t_s, event, value, _ in sorted(spec.events, key=lambda e: e[0]):
-        if event == "oxygen_increase" and value is not None:
+        if event in ("oxygen_increase", "oxygen_flow") and value is not None:
             flow = np.where(grid_s >= t_s, float(value), flow)
     return flow
 
@@ -370,7 +374,7 @@ def _oximetry(spec: CaseSpec, schedule: BreathSchedule, alv_mmHg, tracks: Tracks
     fio2 = ox.fio2_nasal_cannula(tracks.flow_l_min)
     pao2 = ox.simulate_pao2(grid, apnoeic, fio2, paco2, fast, params)
     spo2 = _with_dips(grid, ox.finger_spo2_pct(pao2, params, rng), spec.planted_of(Spo2Dip))
-    pulse = ox.pulse_bpm(grid, spec.physiology.hr_bpm, spo2, rng)
+    pulse = with_slow_pulse(spec, grid, ox.pulse_bpm(grid, spec.physiology.hr_bpm, spo2, rng))
     t0 = np.ceil(max(0.0, spec.spo2_offset_s))
     keep = (grid >= t0) & (grid <= spec.duration_s)
     for g in spec.planted_of(Gap):
@@ -401,4 +405,5 @@ def simulate_case(spec: CaseSpec, rng: np.random.Generator) -> Signals:
     schedule, resume, alv = schedule_breaths(spec, tracks, t_first, spec.duration_s - 0.2, rng)
     co2_t, co2 = _co2_samples(spec, schedule, tracks, rng)
     spo2_t, spo2, pulse, art = _oximetry(spec, schedule, alv, tracks, rng)
-    return Signals(schedule, co2_t, co2, spo2_t, spo2, pulse, art, resume)
+    bp = blood_pressure(spec, rng)  # drawn last: the other streams keep their random draws
+    return Signals(schedule, co2_t, co2, spo2_t, spo2, pulse, art, resume, bp)

@@ -33,6 +33,7 @@ from sedreport.demo.case import (
     Rebreathing,
     Spo2Artefact,
 )
+from sedreport.demo.haemodynamics import cardiovascular_truth
 from sedreport.demo.monitor import probe_windows
 from sedreport.demo.simulate import Signals, disconnected_spans
 from sedreport.demo.truth_events import truth_events
@@ -246,6 +247,7 @@ def build_truth(spec: CaseSpec, sig: Signals, seed: int) -> dict:
         + _co2_findings(spec, sig)
         + _desaturations(sig)
         + [_episode("signal_loss", g["source"], g["start_s"], g["end_s"]) for g in gaps]
+        + cardiovascular_truth(spec, sig.bp[0])
     )
     episodes.sort(key=lambda e: (e["start_s"], e["kind"]))
     return {

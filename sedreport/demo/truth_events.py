@@ -5,7 +5,8 @@ and its outcome words, with the reading of Mason et al., Br J Anaesth 2012 (as r
 Trials 2022 Table 4) and the linking rules of the default criteria file: apnoea not prolonged
 minor, prolonged (> 60 s) sentinel; desaturation < 75 % at any time sentinel, < 90 % for > 60 s
 sentinel, else minor, and a dip shorter than the listing minimum that stays at or above 75 % is
-no episode (the tool's stated choice); hypoventilation minimal; sloped plateau and rebreathing
+no episode (the tool's stated choice); hypoventilation minimal; hypotension and bradycardia
+minor; sloped plateau and rebreathing
 are findings unless a graded intervention is linked; a data gap is never an event. The
 clustering is written here again, independently of :mod:`sedreport.episodes.events`, so the
 benchmark compares two implementations of the same stated rules.
@@ -48,6 +49,8 @@ def descriptor(ep: dict, sig: Signals, c: Criteria) -> str | None:
         return _desaturation_tier(ep, sig, c)
     if kind == "hypoventilation":
         return "minimal"
+    if kind in ("hypotension", "bradycardia"):
+        return "minor"
     if kind == "signal_loss":
         return "skip"
     return None

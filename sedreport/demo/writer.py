@@ -105,6 +105,12 @@ def _spo2_csv(spec: CaseSpec, sig: Signals) -> str:
     return csv_text("time,spo2,pulse", [times, fixed(sig.spo2_pct, 0), fixed(sig.pulse_bpm, 0)])
 
 
+def _bp_csv(spec: CaseSpec, sig: Signals) -> str:
+    t, systolic, diastolic = sig.bp
+    times = time_column(spec, t, spec.spo2_time_style, 0)
+    return csv_text("time,systolic,diastolic", [times, fixed(systolic, 0), fixed(diastolic, 0)])
+
+
 def _log_time(spec: CaseSpec, t_s: float) -> str:
     """Time of a dose/event line: ISO when the case logs in ISO, else seconds."""
     decimals = 0 if float(t_s).is_integer() else 1
@@ -161,10 +167,12 @@ def session_yaml(spec: CaseSpec) -> str:
             "spo2": {"file": "spo2.csv", "clock_offset_s": spec.spo2_offset_s},
             "doses": {"file": "doses.csv"},
             "events": {"file": "events.csv"},
+            **({"bp": {"file": "bp.csv"}} if spec.bp_interval_s is not None else {}),
         },
         "barometric_mmHg": spec.barometric_mmHg,
         "criteria": None,
         "outcome": list(spec.outcome),
+        **({"assessment": spec.assessment} if spec.assessment is not None else {}),
     }
     head = (
         f"# Invented demo session ({spec.scenario}); no real patient. Made by `sedreport demo`.\n"
@@ -185,6 +193,8 @@ def write_case(
     (folder / "spo2.csv").write_text(_spo2_csv(spec, sig), encoding="ascii")
     (folder / "doses.csv").write_text(_doses_csv(spec), encoding="ascii")
     (folder / "events.csv").write_text(_events_csv(spec), encoding="ascii")
+    if spec.bp_interval_s is not None:
+        (folder / "bp.csv").write_text(_bp_csv(spec, sig), encoding="ascii")
     (folder / "session.yaml").write_text(session_yaml(spec), encoding="utf-8")
     truth_path = Path(outdir) / f"{spec.session_id}.truth.json"
     truth_path.write_text(json.dumps(truth, separators=(",", ":")) + "\n", encoding="ascii")

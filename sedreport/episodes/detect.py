@@ -6,6 +6,7 @@ from sedreport.capnography.model import Baseline, BreathTable, Trends
 from sedreport.criteria import Criteria
 from sedreport.episodes._intervals import Finding
 from sedreport.episodes.apnoea import detect_apnoea
+from sedreport.episodes.cardiovascular import detect_bradycardia, detect_hypotension
 from sedreport.episodes.co2_signal import detect_co2_signal_absent
 from sedreport.episodes.desaturation import detect_desaturation
 from sedreport.episodes.dips import deep_dip_findings
@@ -55,6 +56,8 @@ def find_findings(
         *detect_rebreathing(breaths, gs, ge, criteria),
         *detect_sloped_plateau(outside_stretches(breaths, low_s), baseline, gs, ge, criteria),
         *detect_signal_loss(session, criteria),
+        *detect_hypotension(session, criteria),
+        *detect_bradycardia(session, trends, criteria),
     ]
     return sorted(found, key=lambda f: (f.start_s, EPISODE_KINDS.index(f.kind), f.end_s))
 
@@ -88,7 +91,7 @@ def detect_episodes(
     >>> b = find_breaths(s.co2, gap_s=crit.signal_loss.co2_gap_s)
     >>> eps = detect_episodes(s, b, compute_trends(s, b), estimate_baseline(s, b), crit)
     >>> [(e.id, e.kind, e.start_time[11:19]) for e in eps]
-    [('E1', 'apnoea', '14:35:12')]
+    [('E1', 'apnoea', '14:35:12'), ('E2', 'bradycardia', '14:40:28')]
     """
     return detect_events(session, breaths, trends, baseline, criteria)[0]
 

@@ -8,8 +8,8 @@ apnoea -> desaturation -> bag-mask ventilation.
 
 Which episodes take part (the tiers and their sources are in :mod:`.severity`):
 
-- apnoea, desaturation and hypoventilation carry a descriptor of the tool (hypoventilation as
-  "subclinical respiratory depression", minimal);
+- apnoea, desaturation, hypotension, bradycardia and hypoventilation carry a descriptor of the
+  tool (hypoventilation as "subclinical respiratory depression", minimal);
 - every other kind (signal loss aside) is a finding: part of an adverse event only when a
   graded intervention is linked to it (choice of this tool); kinds this module does not know
   are findings too;

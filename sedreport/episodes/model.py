@@ -15,6 +15,8 @@ EPISODE_KINDS: tuple[str, ...] = (
     "low_amplitude",
     "etco2_fall",
     "co2_signal_absent",
+    "hypotension",
+    "bradycardia",
 )
 
 #: Tiers of an adverse event after the World SIVA adverse sedation event tool (Mason et al.,

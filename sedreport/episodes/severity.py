@@ -47,6 +47,27 @@ OUTCOME_TIERS: dict[str, tuple[str, str]] = {
 }
 
 
+#: Tier of the cardiovascular descriptors, with where it came from (the table's footnote on
+#: them, "a change > 25 % from baseline", is from memory; its limits are in the criteria file).
+CARDIOVASCULAR_DESCRIPTORS: dict[str, tuple[str, str]] = {
+    "hypotension": ("minor", f"{SOURCE}: hypotension (minor risk descriptor)"),
+    "bradycardia": ("minor", f"{SOURCE}: bradycardia (minor risk descriptor)"),
+}
+
+
+def _cardiovascular_text(kind: str, criteria: Criteria) -> str:
+    c = criteria.cardiovascular
+    if kind == "hypotension":
+        return (
+            f"hypotension: systolic < {c.systolic_below_mmHg:g} mmHg or "
+            f"> {c.systolic_fall_pct:g} % below baseline"
+        )
+    return (
+        f"bradycardia: pulse < {c.pulse_below_bpm:g}/min or > {c.pulse_fall_pct:g} % below "
+        f"baseline for >= {c.bradycardia_min_duration_s:g} s"
+    )
+
+
 def tier_rank(tier: str | None) -> int:
     """Position of a tier in :data:`SEVERITY_TIERS`; None (no tier) ranks below ``minimal``.
 
@@ -101,7 +122,8 @@ def descriptor_tier(
     prolonged (> 60 s) = sentinel; desaturation 75-90 % for < 60 s = minor (the table says
     minor, not minimal), < 75 % at any time or < 90 % for > 60 s = sentinel; subclinical
     respiratory depression = minimal (capnographic hypoventilation; the footnote
-    "capnographic changes without clinical signs" is from memory).
+    "capnographic changes without clinical signs" is from memory); hypotension and
+    bradycardia = minor (:data:`CARDIOVASCULAR_DESCRIPTORS`).
 
     Examples
     --------
@@ -132,4 +154,6 @@ def descriptor_tier(
         )
     if kind == "hypoventilation":
         return "minimal", "subclinical respiratory depression (capnographic hypoventilation)"
+    if kind in CARDIOVASCULAR_DESCRIPTORS:
+        return CARDIOVASCULAR_DESCRIPTORS[kind][0], _cardiovascular_text(kind, criteria)
     return None, f"{kind.replace('_', ' ')}: a finding, not a descriptor of the tool"

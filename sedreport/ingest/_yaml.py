@@ -15,8 +15,9 @@ from datetime import date, datetime
 import yaml
 
 from sedreport.errors import SessionError
+from sedreport.ingest._assessment import parse_assessment
 from sedreport.ingest.units import canonical_co2_unit
-from sedreport.session import OUTCOMES, BloodGas, Oxygen, Patient, Team
+from sedreport.session import OUTCOMES, Assessment, BloodGas, Oxygen, Patient, Team
 
 FORMAT = "sedreport-session/1"
 SESSION_ID_RE = re.compile(r"[A-Za-z0-9._-]{1,64}")
@@ -25,6 +26,8 @@ SEXES = ("female", "male", "other", "unknown")
 #: sedation target.
 DEPTHS = ("minimal", "moderate", "deep")
 ROLES = ("co2", "spo2", "doses", "events")
+#: Sources that may be left out without a ``missing_stream`` finding (added later, optional).
+OPTIONAL_ROLES = ("bp",)
 TOP_KEYS = (
     "format",
     "session_id",
@@ -40,6 +43,7 @@ TOP_KEYS = (
     "criteria",
     "blood_gas",
     "outcome",
+    "assessment",
 )
 PATIENT_KEYS = (
     "ref",
@@ -60,6 +64,7 @@ SOURCE_KEYS = {
     "spo2": ("file", "units", "clock_offset_s", "channel", "pulse_channel"),
     "doses": ("file", "clock_offset_s"),
     "events": ("file", "clock_offset_s"),
+    "bp": ("file", "clock_offset_s"),
 }
 #: Largest clock correction accepted, seconds (one day; a larger one is a wrong date).
 MAX_CLOCK_OFFSET_S = 86400.0
@@ -95,6 +100,7 @@ class SessionSpec:
     outcome: tuple[str, ...] = ()
     warnings: tuple[str, ...] = field(default=())
     blood_gas: BloodGas | None = None
+    assessment: Assessment | None = None
 
 
 def load_yaml_text(text: str, where: str) -> dict:
@@ -323,9 +329,10 @@ def _sources(f: _Fields, doc: dict) -> dict[str, SourceSpec]:
     s = f.mapping(doc, "sources")
     out: dict[str, SourceSpec] = {}
     for key, entry in s.items():
-        if key not in ROLES:
+        if key not in ROLES + OPTIONAL_ROLES:
+            known = ", ".join(ROLES + OPTIONAL_ROLES)
             f.warnings.append(
-                f"session.yaml: unknown source sources.{_key(key)} ignored (known: {', '.join(ROLES)})"
+                f"session.yaml: unknown source sources.{_key(key)} ignored (known: {known})"
             )
             continue
         if entry is None:
@@ -387,5 +394,6 @@ def parse_session_yaml(doc: dict, where: str) -> SessionSpec:
         criteria=criteria,
         blood_gas=_blood_gas(f, doc),
         outcome=_outcome(f, doc),
+        assessment=parse_assessment(f, doc),
         warnings=tuple(f.warnings),
     )

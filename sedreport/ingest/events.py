@@ -1,8 +1,10 @@
 """The event log ``events.csv``: ``time,event[,value][,note]``.
 
 Event names are those of :data:`sedreport.session.KNOWN_EVENTS` (DESIGN.md vocabulary); any
-other name is an error listing the known ones. ``oxygen_increase`` needs a numeric value (the new
-flow, 0-15 L/min). Times must not go backwards.
+other name is an error listing the known ones. ``oxygen_increase`` and ``oxygen_flow`` need a
+numeric value (the new flow, 0-15 L/min; an ``oxygen_flow`` note names the device);
+``recovery_score`` needs a numeric value (0-100; the note names the scale,
+e.g. modified Aldrete). Times must not go backwards.
 """
 
 from __future__ import annotations
@@ -17,8 +19,15 @@ from sedreport.ingest.streams import Loaded, ReadContext, check_in_time_order
 from sedreport.ingest.times import csv_source_info, parse_times, table_notes
 from sedreport.session import KNOWN_EVENTS, Event
 
-#: Oxygen flow limits for ``oxygen_increase`` values, L/min (same as ``oxygen.flow_l_min``).
+#: Oxygen flow limits for ``oxygen_increase`` / ``oxygen_flow`` values, L/min (same as
+#: ``oxygen.flow_l_min``).
 FLOW_LIMITS_L_MIN = (0.0, 15.0)
+#: Events whose value is a new oxygen flow, L/min.
+FLOW_EVENTS = ("oxygen_increase", "oxygen_flow")
+#: Score limits for ``recovery_score`` values (scales such as the modified Aldrete score run 0-10;
+#: a wide plausibility limit, common practice).
+SCORE_LIMITS = (0.0, 100.0)
+SCORE_EVENTS = ("recovery_score",)
 
 
 def read_events(raw: RawFile, spec: SourceSpec, ctx: ReadContext) -> Loaded:
@@ -57,10 +66,16 @@ def _event(at: str, time_s: float, name: str, value: float, note: str, line: int
     if key not in KNOWN_EVENTS:
         raise SessionError(at, f"unknown event {name!r}; known events: {', '.join(KNOWN_EVENTS)}")
     given = None if np.isnan(value) else value
-    if key == "oxygen_increase":
+    if key in FLOW_EVENTS:
         lo, hi = FLOW_LIMITS_L_MIN
         if given is None:
-            raise SessionError(at, "oxygen_increase needs a value (the new flow in L/min)")
+            raise SessionError(at, f"{key} needs a value (the new flow in L/min)")
         if not lo <= given <= hi:
-            raise SessionError(at, f"oxygen_increase flow {given:g} L/min is outside {lo:g}-{hi:g}")
+            raise SessionError(at, f"{key} flow {given:g} L/min is outside {lo:g}-{hi:g}")
+    if key in SCORE_EVENTS:
+        lo, hi = SCORE_LIMITS
+        if given is None:
+            raise SessionError(at, f"{key} needs a value (the score; name the scale in note)")
+        if not lo <= given <= hi:
+            raise SessionError(at, f"{key} {given:g} is outside {lo:g}-{hi:g}")
     return Event(time_s=time_s, event=key, value=given, note=note, line=line)

@@ -7,12 +7,14 @@ from pathlib import Path
 
 from sedreport.errors import SedreportError, SessionError
 from sedreport.ingest._yaml import (
+    OPTIONAL_ROLES,
     ROLES,
     SessionSpec,
     SourceSpec,
     load_yaml_text,
     parse_session_yaml,
 )
+from sedreport.ingest.bp import read_bp
 from sedreport.ingest.csv_streams import read_co2_csv, read_spo2_csv
 from sedreport.ingest.doses import read_doses
 from sedreport.ingest.events import read_events
@@ -31,6 +33,7 @@ _CSV_READERS = {
     "spo2": read_spo2_csv,
     "doses": read_doses,
     "events": read_events,
+    "bp": read_bp,
 }
 _SIGNAL_READERS = {"co2": read_co2_signal, "spo2": read_spo2_signal}
 
@@ -87,12 +90,12 @@ def load_session(folder: str | Path) -> Session:
     )
     loaded: dict[str, Loaded] = {}
     findings, warnings = [], list(spec.warnings)
-    for role in ROLES:
+    for role in ROLES + OPTIONAL_ROLES:
         if role in spec.sources:
             loaded[role] = _read_source(spec.sources[role], ctx)
             findings.extend(loaded[role].findings)
             warnings.extend(loaded[role].warnings)
-        else:
+        elif role not in OPTIONAL_ROLES:
             finding = missing_stream(role)
             findings.append(finding)
             warnings.append(f"{finding.message} (sources.{role} not given)")
@@ -131,7 +134,11 @@ def _read_source(spec: SourceSpec, ctx: ReadContext) -> Loaded:
 
 
 def _stream_findings(loaded: dict[str, Loaded]) -> list:
-    spans = {role: ld.info.span_s for role, ld in loaded.items() if ld.info.span_s is not None}
+    spans = {
+        role: ld.info.span_s
+        for role, ld in loaded.items()
+        if ld.info.span_s is not None and role not in OPTIONAL_ROLES
+    }
     return find_no_overlap(spans)
 
 
@@ -169,6 +176,8 @@ def _session(
         criteria_file=_criteria(spec, ctx),
         blood_gas=spec.blood_gas,
         outcome=spec.outcome,
+        assessment=spec.assessment,
+        bp=loaded["bp"].data if "bp" in loaded else None,
         co2=loaded["co2"].data if "co2" in loaded else None,
         spo2=loaded["spo2"].data if "spo2" in loaded else None,
         doses=loaded["doses"].data if "doses" in loaded else (),

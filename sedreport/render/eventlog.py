@@ -12,6 +12,7 @@ from reportlab.platypus import Paragraph
 from sedreport.analysis import Analysis
 from sedreport.render import styles
 from sedreport.render.fmt import DASH, clock_text, duration_text, words
+from sedreport.render.glossary import TermMark, standard_terms
 from sedreport.render.styles import para_text
 from sedreport.render.tables import cell, grid_table, scaled
 from sedreport.session import Event, Session
@@ -43,6 +44,8 @@ def note_text(e: Event) -> str:
     """The note of an event; a score's note is its scale, already shown beside the value."""
     if e.event in SCORE_EVENTS and e.value is not None:
         return DASH
+    if e.event == "oxygen_flow" and e.note.strip():
+        return words(e.note.strip())  # the device, a code such as nasal_cannula, in words
     return e.note.strip() or DASH
 
 
@@ -79,7 +82,9 @@ def log_flowables(analysis: Analysis, width_pt: float) -> list:
         )
     )
     head = [cell(h, styles.CELL_BOLD) for h in ("Time", "Event", "Value", "Note")]
-    out.append(grid_table([head] + log_rows(s), scaled([0.9, 1.6, 1.5, 3.6], width_pt)))
+    # notes are free text and often name CO2 or SpO2: explain them where the log starts and ends
+    terms = TermMark(standard_terms("CO2", "SpO2"))
+    out += [terms, grid_table([head] + log_rows(s), scaled([0.9, 1.6, 1.5, 3.6], width_pt)), terms]
     return out
 
 

@@ -34,8 +34,9 @@ def legend(width_pt: float, spo2_line_pct: float) -> Drawing:
         (styles.FICO2, "FiCO2 (inspired)"),
         (styles.RR, "resp. rate"),
         (styles.SPO2, "SpO2"),
-        (styles.PULSE, "pulse (right scale)"),
         (styles.REFERENCE, f"SpO2 {spo2_line_pct:g} %"),
+        (styles.PULSE, "pulse"),
+        (styles.MEAN_BP, "mean BP, bars sys-dia"),
     ):
         x = _sample(d, x, y, style, text)
     y = 4

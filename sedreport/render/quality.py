@@ -218,6 +218,12 @@ CRITERION_WORDS: dict[str, str] = {
     "linking.lead_window_s": "SpO2 fall linked up to this long after the end",
     "linking.intervention_before_s": "actions linked from this long before onset",
     "events.link_window_s": "episodes starting within this of the last end: one event",
+    "cardiovascular.systolic_below_mmHg": "hypotension: systolic BP below",
+    "cardiovascular.systolic_fall_pct": "hypotension: systolic fall from baseline over",
+    "cardiovascular.pulse_below_bpm": "bradycardia: pulse below",
+    "cardiovascular.pulse_fall_pct": "bradycardia: pulse fall from baseline over",
+    "cardiovascular.bradycardia_min_duration_s": "bradycardia: slow pulse lasting at least",
+    "cardiovascular.pulse_baseline_window_s": "baseline pulse: median over this before the first dose",
 }
 
 #: Units of the criteria files as a person reads them.

@@ -27,6 +27,7 @@ from sedreport.render.glossary import TermMark, span_terms, standard_terms
 from sedreport.render.header import header_flowables, summary_flowables
 from sedreport.render.json_text import episodes_json
 from sedreport.render.legend import codes_text, legend
+from sedreport.render.observations import OBS_INTERVAL_MIN, observation_flowables
 from sedreport.render.pages import SectionBreak, numbered_canvas, record_document
 from sedreport.render.provenance import (
     caution_flowables,
@@ -76,6 +77,7 @@ def trend_flowables(analysis: Analysis, width_pt: float) -> list:
         Paragraph(para_text(codes_text()), styles.SMALL),
         Spacer(1, 4),
     ]
+    rows: list = []
     for i in range(plan.n_rows):
         t0, t1 = plan.row_span(i)
         caption = Paragraph(
@@ -88,8 +90,11 @@ def trend_flowables(analysis: Analysis, width_pt: float) -> list:
         if unlabelled:
             note = "Bands too crowded to label here: " + ", ".join(unlabelled) + "."
             parts.append(Paragraph(para_text(note), styles.SMALL))
-        out.append(KeepTogether([*parts, Spacer(1, 6)]))
-    return out
+        rows.append(KeepTogether([*parts, Spacer(1, 6)]))
+    if not rows:
+        return out
+    # the heading, its sentence and legend never stand alone at the foot of a page
+    return [out[0], KeepTogether([*out[1:], rows[0]]), *rows[1:]]
 
 
 def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
@@ -146,7 +151,12 @@ def closeup_flowables(analysis: Analysis, width_pt: float) -> list:
     return out
 
 
-def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | None) -> list:
+def build_story(
+    analysis: Analysis,
+    width_pt: float,
+    source_date_epoch: str | None,
+    obs_interval_min: float = OBS_INTERVAL_MIN,
+) -> list:
     """Every flowable of the record, in page order."""
     story: list = []
     story += header_flowables(analysis, width_pt)
@@ -154,6 +164,7 @@ def build_story(analysis: Analysis, width_pt: float, source_date_epoch: str | No
     story += event_flowables(analysis, width_pt)
     story += episode_flowables(analysis, width_pt)
     story += dose_flowables(analysis, width_pt)
+    story += observation_flowables(analysis, width_pt, obs_interval_min)
     story += log_flowables(analysis, width_pt)
     story += recovery_flowables(analysis)
     story += trend_flowables(analysis, width_pt)
@@ -174,6 +185,7 @@ def render_record(
     path: str | os.PathLike[str],
     paper: str = "a4",
     json_path: str | os.PathLike[str] | None = None,
+    obs_interval_min: float = OBS_INTERVAL_MIN,
 ) -> Path:
     """Write the PDF sedation record of one analysed session.
 
@@ -189,6 +201,8 @@ def render_record(
     json_path : path-like, optional
         Also write the episodes JSON there (same content as ``sedreport episodes --format
         json``); written atomically, and only when the PDF succeeds.
+    obs_interval_min : float
+        Charting interval of the observations table, minutes (5 by default).
 
     Returns
     -------
@@ -215,7 +229,7 @@ def render_record(
     """
     width_pt = styles.frame_width(paper)
     epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip() or None
-    story = build_story(analysis, width_pt, epoch)
+    story = build_story(analysis, width_pt, epoch, obs_interval_min)
     json_text = episodes_json(analysis) if json_path is not None else None
     sid = analysis.session.session_id
     target = Path(path)

@@ -1,4 +1,5 @@
-"""Time-aligned trend strips: EtCO2 with FiCO2, respiratory rate, SpO2 with pulse.
+"""Time-aligned trend strips: EtCO2 with FiCO2, respiratory rate, SpO2, blood pressure with
+heart rate (:mod:`sedreport.render.bp_strip`).
 
 One row covers a fixed number of minutes on one shared clock axis; long sessions continue in
 further rows. Dose marks (filled triangles) and intervention marks (open diamonds with a short
@@ -14,6 +15,7 @@ from reportlab.graphics.shapes import Drawing, Group, Rect
 
 from sedreport.analysis import Analysis
 from sedreport.render import styles
+from sedreport.render.bp_strip import SCALE_FLOOR, bp_hr_strip, bp_scale_top
 from sedreport.render.events import rr_for_strip, rr_window_text
 from sedreport.render.marks import LANE_PT, lane_marks
 from sedreport.render.plot import (
@@ -36,7 +38,7 @@ TREND_COLS_PER_PT: float = 0.5
 
 LEFT_PT, RIGHT_PT = 34.0, 26.0
 STRIP_GAP_PT = 8.0
-STRIP_HEIGHTS_PT = (54.0, 34.0, 54.0)  # EtCO2/FiCO2, RR, SpO2/pulse
+STRIP_HEIGHTS_PT = (54.0, 34.0, 44.0, 40.0)  # EtCO2/FiCO2, RR, SpO2, BP/HR
 AXIS_PT = 12.0
 
 
@@ -86,7 +88,7 @@ def data_span(analysis: Analysis) -> tuple[float, float]:
 
 def row_height() -> float:
     """Height in points of one row drawing."""
-    return 3 * LANE_PT + sum(STRIP_HEIGHTS_PT) + 2 * STRIP_GAP_PT + AXIS_PT
+    return 3 * LANE_PT + sum(STRIP_HEIGHTS_PT) + 3 * STRIP_GAP_PT + AXIS_PT
 
 
 def scales(analysis: Analysis) -> dict[str, float]:
@@ -98,7 +100,12 @@ def scales(analysis: Analysis) -> dict[str, float]:
     low = _finite_min(tr.spo2_pct)
     if np.isfinite(low) and low < 72:
         spo2_bottom = max(0.0, float(np.floor((low - 2) / 10) * 10))
-    return {"co2_top": co2_top, "rr_top": rr_top, "spo2_bottom": spo2_bottom}
+    return {
+        "co2_top": co2_top,
+        "rr_top": rr_top,
+        "spo2_bottom": spo2_bottom,
+        "bp_top": bp_scale_top(analysis),
+    }
 
 
 def _finite_max(a: np.ndarray) -> float:
@@ -129,19 +136,21 @@ def trend_row(
     sc = scales(analysis)
     plot_w = width_pt - LEFT_PT - RIGHT_PT
     y = AXIS_PT
-    h_co2, h_rr, h_spo2 = STRIP_HEIGHTS_PT
+    h_co2, h_rr, h_spo2, h_bp = STRIP_HEIGHTS_PT
+    bp = Panel(LEFT_PT, y, plot_w, h_bp, t0_s, t1_s, SCALE_FLOOR, sc["bp_top"])
+    y += h_bp + STRIP_GAP_PT
     spo2 = Panel(LEFT_PT, y, plot_w, h_spo2, t0_s, t1_s, sc["spo2_bottom"], 100.0)
     y += h_spo2 + STRIP_GAP_PT
     rr = Panel(LEFT_PT, y, plot_w, h_rr, t0_s, t1_s, 0.0, sc["rr_top"])
     y += h_rr + STRIP_GAP_PT
     co2 = Panel(LEFT_PT, y, plot_w, h_co2, t0_s, t1_s, 0.0, sc["co2_top"])
     top = co2.y + co2.height
-    bands, unlabelled = _episode_bands(analysis, co2, spo2.y, top)
+    bands, unlabelled = _episode_bands(analysis, co2, bp.y, top)
     d.add(bands)
-    d.add(lane_marks(analysis, co2, top, spo2.y, RIGHT_PT))
+    d.add(lane_marks(analysis, co2, top, bp.y, RIGHT_PT))
     d.add(
         time_axis(
-            spo2,
+            bp,
             analysis.session.started,
             tick_s=60.0,
             label_s=300.0 if t1_s - t0_s > 900 else 120.0,
@@ -152,6 +161,7 @@ def trend_row(
     d.add(_co2_strip(analysis, co2))
     d.add(_rr_strip(analysis, rr))
     d.add(_spo2_strip(analysis, spo2, spo2_line_pct))
+    d.add(bp_hr_strip(analysis, bp))
     return d, unlabelled
 
 
@@ -226,10 +236,6 @@ def _rr_strip(analysis: Analysis, p: Panel) -> Group:
     return g
 
 
-#: Pulse scale of the SpO2 strip's right axis, beats per minute.
-PULSE_SCALE_BPM: tuple[float, float] = (40.0, 160.0)
-
-
 def _spo2_strip(analysis: Analysis, p: Panel, spo2_line_pct: float) -> Group:
     g = Group()
     step = 10.0 if 100 - p.y0 <= 40 else 20.0
@@ -240,25 +246,17 @@ def _spo2_strip(analysis: Analysis, p: Panel, spo2_line_pct: float) -> Group:
         g.add(label(p.x + 6, p.y + p.height / 2, "no oximetry file in this session", 7))
         g.add(frame_box(p))
         return g
-    lo, hi = PULSE_SCALE_BPM
-    g.add(value_axis(p, [60.0, 100.0, 140.0], side="right", lo=lo, hi=hi, grid=False))
-    g.add(label(p.x + p.width + 2, p.y + p.height + 2, "pulse", 5.5, color=styles.PULSE.color))
     g.add(hline(p, spo2_line_pct, styles.REFERENCE))
     tr = analysis.trends
-    for values, style, scale in (
-        (tr.pulse_bpm, styles.PULSE, (lo, hi)),
-        (tr.spo2_pct, styles.SPO2, None),
+    for shp in series_shapes(
+        p,
+        tr.spo2_time_s,
+        tr.spo2_pct,
+        styles.SPO2,
+        max_gap_s=analysis.quality.spo2_gap_s,
+        cols_per_pt=TREND_COLS_PER_PT,
     ):
-        for shp in series_shapes(
-            p,
-            tr.spo2_time_s,
-            values,
-            style,
-            max_gap_s=analysis.quality.spo2_gap_s,
-            scale=scale,
-            cols_per_pt=TREND_COLS_PER_PT,
-        ):
-            g.add(shp)
+        g.add(shp)
     g.add(frame_box(p))
     return g
 

@@ -73,6 +73,10 @@ FICO2 = SeriesStyle(colors.Color(0.40, 0.40, 0.40), 0.8, (2.5, 1.5))
 RR = SeriesStyle(colors.Color(0.15, 0.15, 0.15), 0.9)
 SPO2 = SeriesStyle(colors.Color(0.10, 0.15, 0.45), 1.3)
 PULSE = SeriesStyle(colors.Color(0.45, 0.25, 0.10), 0.9, (1.6, 1.2))
+#: Non-invasive blood pressure: the systolic-diastolic bar of each cuff reading and the line
+#: joining the mean pressures.
+BP = SeriesStyle(colors.Color(0.55, 0.08, 0.10), 0.9)
+MEAN_BP = SeriesStyle(colors.Color(0.55, 0.08, 0.10), 0.7)
 CO2_WAVE = SeriesStyle(colors.Color(0.05, 0.30, 0.35), 0.6)
 REFERENCE = SeriesStyle(colors.Color(0.30, 0.30, 0.30), 0.5, (4.0, 2.0))
 DOSE_MARK = colors.Color(0.10, 0.10, 0.10)
