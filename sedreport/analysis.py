@@ -9,7 +9,7 @@ The tool documents and reviews recorded data; it is not an alarm or a diagnosis.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -21,7 +21,6 @@ from sedreport.episodes.detect import detect_events
 from sedreport.episodes.dips import Dip, brief_dips
 from sedreport.episodes.model import AdverseEvent, Episode
 from sedreport.episodes.summary import Quality, Summary, summarise_quality, summarise_session
-from sedreport.oximetry import clean_oximetry
 from sedreport.session import Session
 
 #: Trailing window of the respiratory-rate trend, seconds (common practice: rate per minute).
@@ -73,14 +72,6 @@ def empty_breaths() -> BreathTable:
     return BreathTable(z, z, z, z, z, z, z, z, np.empty(0, dtype=bool), ())
 
 
-def with_oximetry(trends: Trends, session: Session, criteria: Criteria) -> Trends:
-    """The trends with the SpO2/pulse cleaned by the active criteria's ``oximetry`` rules."""
-    if session.spo2 is None or session.spo2.time_s.size == 0:
-        return trends
-    spo2, pulse, artefact = clean_oximetry(session.spo2, criteria)
-    return replace(trends, spo2_pct=spo2, pulse_bpm=pulse, spo2_artefact=artefact)
-
-
 def analyse_session(session: Session, criteria: Criteria | str | Path | None = None) -> Analysis:
     """Analyse one session: breaths, trends, baseline, episodes, summary and quality.
 
@@ -112,9 +103,7 @@ def analyse_session(session: Session, criteria: Criteria | str | Path | None = N
     gap_s = crit.signal_loss.co2_gap_s
     co2 = session.co2
     breaths = find_breaths(co2, gap_s=gap_s) if co2 is not None else empty_breaths()
-    trends = with_oximetry(
-        compute_trends(session, breaths, rr_window_s=RR_WINDOW_S, gap_s=gap_s), session, crit
-    )
+    trends = compute_trends(session, breaths, rr_window_s=RR_WINDOW_S, gap_s=gap_s, criteria=crit)
     baseline = estimate_baseline(session, breaths, window_s=BASELINE_WINDOW_S, gap_s=gap_s)
     episodes, events = detect_events(session, breaths, trends, baseline, crit)
     dips = brief_dips(trends, crit)

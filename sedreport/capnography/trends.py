@@ -6,7 +6,7 @@ import numpy as np
 
 from sedreport.capnography.cycles import split_segments
 from sedreport.capnography.model import BreathTable, Trends
-from sedreport.criteria import default_criteria
+from sedreport.criteria import Criteria, default_criteria
 from sedreport.oximetry import clean_oximetry
 from sedreport.session import Session
 
@@ -94,6 +94,7 @@ def compute_trends(
     rr_window_s: float = 60.0,
     *,
     gap_s: float | None = None,
+    criteria: Criteria | None = None,
 ) -> Trends:
     """EtCO2, FiCO2 and rate trends from the breaths, plus the cleaned SpO2/pulse trend.
 
@@ -109,6 +110,9 @@ def compute_trends(
     gap_s : float, optional
         Longest CO2 sample step that is not a gap, seconds (the active criteria's
         ``signal_loss.co2_gap_s``); None takes the shipped default criteria's.
+    criteria : Criteria, optional
+        The active criteria: their ``oximetry`` rules clean the SpO2/pulse trend (None: the
+        shipped default's).
 
     Returns
     -------
@@ -128,7 +132,7 @@ def compute_trends(
         starts = np.sort(np.asarray(breaths.start_s, dtype=float)[counted_breaths(breaths)])
         grid, rr = rate_trend(starts, seg_start, seg_end, rr_window_s)
     if session.spo2 is not None and session.spo2.time_s.size:
-        spo2, pulse, artefact = clean_oximetry(session.spo2)
+        spo2, pulse, artefact = clean_oximetry(session.spo2, criteria)
         spo2_t = np.asarray(session.spo2.time_s, dtype=float)
     else:
         spo2 = pulse = spo2_t = np.empty(0)
